@@ -1,0 +1,74 @@
+import { Command, CommanderError, InvalidArgumentError, Option } from 'commander';
+import { UsageError } from '../errors.js';
+import { tool } from '../version.js';
+import { runInspect, type InspectOptions } from './inspect.js';
+import { ExitCode, type CliIo } from './io.js';
+
+const positiveNumber = (what: string) => (value: string) => {
+  const n = Number(value);
+  if (!Number.isFinite(n) || n <= 0) throw new InvalidArgumentError(`${what} must be a positive number, not "${value}".`);
+  return n;
+};
+const fraction = (value: string) => {
+  const n = Number(value);
+  if (!(n >= 0 && n < 1)) throw new InvalidArgumentError(`overlap must be at least 0 and less than 1, not "${value}".`);
+  return n;
+};
+
+/**
+ * The command line. Returns the exit code; never calls process.exit, never throws for bad
+ * input (the message goes to io.stderr).
+ */
+export async function main(argv: string[], io: CliIo): Promise<number> {
+  let code: number = ExitCode.ok;
+  const program = new Command('vibgate')
+    .description('Data-quality gate for vibration and acoustics recordings.')
+    .version(tool.version, '-V, --version')
+    .exitOverride()
+    .configureOutput({
+      writeOut: (s) => io.stdout.write(s),
+      writeErr: (s) => io.stderr.write(s),
+      outputError: (s, write) => write(s.startsWith('error:') ? `vibgate: ${s.slice(7)}` : s),
+    })
+    .showHelpAfterError('(run "vibgate --help" for usage)');
+
+  program
+    .command('inspect')
+    .description('Print per-channel statistics of recordings: whole record and the range over frames.')
+    .argument('<recording...>', 'recording files (WAV/RF64/BW64, CSV/TSV, raw with a sidecar)')
+    .addOption(new Option('-f, --format <format>', 'output for people or tools').choices(['table', 'json', 'csv']).default('table'))
+    .option('--frame-seconds <s>', 'frame length in seconds', positiveNumber('frame length'), 1)
+    .option('--overlap <fraction>', 'fraction of a frame shared with the next (0 ≤ f < 1)', fraction, 0)
+    .option('--sidecar <file>', 'channel metadata file (default: <recording>.channels.yaml when present)')
+    .option('--sample-rate <hz>', 'sample rate for formats without one (CSV without time column, raw)', positiveNumber('sample rate'))
+    .option('--time-column <name>', 'CSV: name of the time column')
+    .option('--decimal-comma', 'CSV: numbers use a decimal comma (fields separated by ";" or tabs)')
+    .action(async (paths: string[], opts: Record<string, unknown>) => {
+      const options: InspectOptions = {
+        format: opts.format as InspectOptions['format'],
+        frameSeconds: opts.frameSeconds as number,
+        overlap: opts.overlap as number,
+        sidecar: opts.sidecar as string | undefined,
+        sampleRate: opts.sampleRate as number | undefined,
+        timeColumn: opts.timeColumn as string | undefined,
+        decimalComma: opts.decimalComma === true,
+      };
+      code = await runInspect(paths, options, io);
+    });
+
+  try {
+    await program.parseAsync(argv, { from: 'user' });
+    return code;
+  } catch (err) {
+    if (err instanceof CommanderError) {
+      return err.exitCode === 0 ? ExitCode.ok : ExitCode.usage;
+    }
+    if (err instanceof UsageError || err instanceof RangeError) {
+      io.stderr.write(`vibgate: ${err.message}\n`);
+      return ExitCode.usage;
+    }
+    // A bug, not bad input: say so plainly, with the detail a developer needs.
+    io.stderr.write(`vibgate: internal error: ${err instanceof Error ? err.stack ?? err.message : String(err)}\n`);
+    return ExitCode.failed;
+  }
+}

@@ -1,0 +1,17 @@
+/**
+ * vibgate's library API: open recordings, stream them through the statistics engine, and
+ * merge summaries of record parts. Only what is stable is exported here.
+ */
+export { openRecording, supportedFormats } from './readers/index.js';
+export type { Recording, OpenOptions, SampleBlock, ChannelInfo, BlockOptions } from './readers/index.js';
+export { summariseBlocks, mergeRecordingSummaries, frameGeometry } from './stats/summarise.js';
+export type { RecordingSummary, FrameOptions } from './stats/summarise.js';
+export { ChannelAccumulator } from './stats/channel-accumulator.js';
+export type { ChannelSummary } from './stats/channel-accumulator.js';
+export { mergeChannelSummaries } from './stats/merge.js';
+export { channelStats, stationarity, frameSeries } from './stats/channel-stats.js';
+export type { ChannelStats, StationarityResult } from './stats/channel-stats.js';
+export { reverseArrangements, reverseArrangementsBounds } from './stats/reverse-arrangements.js';
+export { inspectRecording } from './cli/inspect.js';
+export { main } from './cli/main.js';
+export { RecordingError, UsageError } from './errors.js';
