@@ -31,8 +31,8 @@ export const crestFactor: Check<Options> = {
       ctx.stats.crestFactor,
       ctx.stats.frames?.crestFactor,
       {
-        whole: o.max !== undefined || o.min !== undefined ? [o.min ?? 0, o.max ?? Infinity] : undefined,
-        frames: o['frames-max'] !== undefined ? [0, o['frames-max']] : undefined,
+        whole: o.max !== undefined || o.min !== undefined ? [o.min ?? -Infinity, o.max ?? Infinity] : undefined,
+        frames: o['frames-max'] !== undefined ? [-Infinity, o['frames-max']] : undefined,
       },
       {
         high: 'isolated spikes far above the signal: loose connector or cable, or static discharge?',

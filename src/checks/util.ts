@@ -20,7 +20,11 @@ export function withUnit(value: number, ctx: ChannelContext): string {
   return ctx.channel.unit ? `${show(value)} ${ctx.channel.unit}` : show(value);
 }
 
+/** `2.4 … 4`; a range open on one side reads `≤ 6.5` or `≥ 1.2`. */
 export function rangeText([lo, hi]: readonly [number, number]): string {
+  if (lo === -Infinity && hi === Infinity) return 'any value';
+  if (lo === -Infinity) return `≤ ${show(hi)}`;
+  if (hi === Infinity) return `≥ ${show(lo)}`;
   return `${show(lo)} … ${show(hi)}`;
 }
 

@@ -38,8 +38,8 @@ export function judgeWholeAndFrames(
       limit,
       at,
       message:
-        `frame ${what} ${show(worst.value)} at ${spanText(at)} is ${high ? 'above' : 'below'} the frame range ` +
-        `${rangeText(limits.frames!)} (whole record ${show(whole)}${wholeBad ? `, also outside ${rangeText(limits.whole!)}` : ''}): ` +
+        `frame ${what} ${show(worst.value)} at ${spanText(at)} is ${beyond(limits.frames!, high, 'frame ')}` +
+        ` (whole record ${show(whole)}${wholeBad ? `, also outside ${rangeText(limits.whole!)}` : ''}): ` +
         (high ? causes.high : causes.low),
     };
   }
@@ -50,7 +50,14 @@ export function judgeWholeAndFrames(
     unit: '',
     limit,
     message:
-      `${what} ${show(whole)} over the whole record is ${high ? 'above' : 'below'} ${rangeText(limits.whole!)}${frameRange}: ` +
+      `${what} ${show(whole)} over the whole record is ${beyond(limits.whole!, high)}${frameRange}: ` +
       (high ? causes.high : causes.low),
   };
+}
+
+/** `above the frame range 1.6 … 8`, or `above the limit 6.5` for a range open on one side. */
+function beyond(range: readonly [number, number], high: boolean, prefix = ''): string {
+  const word = high ? 'above' : 'below';
+  if (Number.isFinite(range[0]) && Number.isFinite(range[1])) return `${word} the ${prefix}range ${rangeText(range)}`;
+  return `${word} the ${prefix}limit ${show(high ? range[1] : range[0])}`;
 }
