@@ -2,11 +2,18 @@ import { Command, CommanderError, InvalidArgumentError, Option } from 'commander
 import { UsageError } from '../errors.js';
 import { tool } from '../version.js';
 import { runInspect, type InspectOptions } from './inspect.js';
+import { runScreen } from './screen.js';
+import { runRulesChecks, runRulesValidate } from './rules.js';
 import { ExitCode, type CliIo } from './io.js';
 
 const positiveNumber = (what: string) => (value: string) => {
   const n = Number(value);
   if (!Number.isFinite(n) || n <= 0) throw new InvalidArgumentError(`${what} must be a positive number, not "${value}".`);
+  return n;
+};
+const nonNegativeInteger = (value: string) => {
+  const n = Number(value);
+  if (!Number.isSafeInteger(n) || n < 0) throw new InvalidArgumentError(`must be a whole number ≥ 0, not "${value}".`);
   return n;
 };
 const fraction = (value: string) => {
@@ -54,6 +61,54 @@ export async function main(argv: string[], io: CliIo): Promise<number> {
         decimalComma: opts.decimalComma === true,
       };
       code = await runInspect(paths, options, io);
+    });
+
+  program
+    .command('screen')
+    .description('Judge recordings against a rule file: the gate. Exit 0 pass, 1 failed or unreadable, 2 usage or rule-file error.')
+    .argument('<recording...>', 'recording files (WAV/RF64/BW64, CSV/TSV, raw with a sidecar)')
+    .requiredOption('-r, --rules <file>', 'rule file (YAML) for this kind of test')
+    .option('--junit <file>', 'write JUnit XML for the CI server (atomically)')
+    .option('--json <file>', 'write the JSON audit record (atomically)')
+    .option('-q, --quiet', 'print only failing recordings and the final verdict')
+    .option('--max-warnings <n>', 'fail the gate when there are more than n warnings', nonNegativeInteger)
+    .option('--sidecar <file>', 'channel metadata file for every recording (default: <recording>.channels.yaml when present)')
+    .option('--sample-rate <hz>', 'sample rate for formats without one (CSV without time column, raw)', positiveNumber('sample rate'))
+    .option('--decimal-comma', 'CSV: numbers use a decimal comma (fields separated by ";" or tabs)')
+    .option('--rules-root <dir...>', 'another directory the rule file\'s extends may read from')
+    .action(async (paths: string[], o: Record<string, unknown>) => {
+      code = await runScreen(
+        paths,
+        {
+          rules: o.rules as string,
+          junit: o.junit as string | undefined,
+          json: o.json as string | undefined,
+          quiet: o.quiet === true,
+          maxWarnings: o.maxWarnings as number | undefined,
+          sidecar: o.sidecar as string | undefined,
+          sampleRate: o.sampleRate as number | undefined,
+          decimalComma: o.decimalComma === true,
+          rulesRoots: o.rulesRoot as string[] | undefined,
+        },
+        io,
+      );
+    });
+
+  const rules = program.command('rules').description('Validate rule files and list the checks.');
+  rules
+    .command('validate')
+    .description('Validate a rule file and print it as vibgate resolves it (extends merged).')
+    .argument('<file>', 'rule file (YAML)')
+    .addOption(new Option('-f, --format <format>', 'output for people or tools').choices(['text', 'json']).default('text'))
+    .option('--rules-root <dir...>', 'another directory extends may read from')
+    .action(async (file: string, o: { format: 'text' | 'json'; rulesRoot?: string[] }) => {
+      code = await runRulesValidate(file, io, { format: o.format, rulesRoots: o.rulesRoot });
+    });
+  rules
+    .command('checks')
+    .description('List every check with its options and defaults.')
+    .action(() => {
+      code = runRulesChecks(io);
     });
 
   try {
