@@ -13,5 +13,17 @@ export { channelStats, stationarity, frameSeries } from './stats/channel-stats.j
 export type { ChannelStats, StationarityResult } from './stats/channel-stats.js';
 export { reverseArrangements, reverseArrangementsBounds } from './stats/reverse-arrangements.js';
 export { inspectRecording } from './cli/inspect.js';
+export { loadRules, RulesError } from './rules/load.js';
+export type { ResolvedRules, CheckSetting, ChannelSelector } from './rules/types.js';
+export { checksForChannel, globMatch } from './rules/select.js';
+export { rulesSchema } from './rules/schema.js';
+export { checks, getCheck } from './checks/registry.js';
+export type { Check, Finding, FindingStatus, Severity, ChannelContext } from './checks/types.js';
+export { judgeRecording, unreadableRecording } from './gate/judge.js';
+export type { GateResult, RecordingVerdict, ChannelVerdict, Verdict } from './gate/types.js';
+export { screenRecording } from './cli/screen.js';
+export { junitReport } from './report/junit.js';
+export { jsonRecord } from './report/json-record.js';
+export { terminalReport } from './report/terminal.js';
 export { main } from './cli/main.js';
 export { RecordingError, UsageError } from './errors.js';
