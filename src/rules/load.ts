@@ -73,6 +73,9 @@ export interface LoadRulesOptions {
 }
 
 /** The package's `rules/`: src/rules and dist/rules are both two levels below the package root. */
+/** Prefix of an `extends` entry that names a bundled rule file: `bundled:random-vibration`. */
+export const BUNDLED_PREFIX = 'bundled:';
+
 const defaultBundledRoot = (): string => fileURLToPath(new URL('../../rules/', import.meta.url));
 
 /**
@@ -83,12 +86,9 @@ const defaultBundledRoot = (): string => fileURLToPath(new URL('../../rules/', i
 export async function loadRules(path: string, options: LoadRulesOptions = {}): Promise<ResolvedRules> {
   const cwd = options.cwd ?? process.cwd();
   const absolute = resolve(cwd, path);
-  const roots = await realRoots([
-    dirname(absolute),
-    options.bundledRoot === undefined ? defaultBundledRoot() : resolve(cwd, options.bundledRoot),
-    ...(options.allowRoots ?? []).map((r) => resolve(cwd, r)),
-  ]);
-  const loader = new Loader(roots, dirname(path));
+  const bundledRoot = options.bundledRoot === undefined ? defaultBundledRoot() : resolve(cwd, options.bundledRoot);
+  const roots = await realRoots([dirname(absolute), bundledRoot, ...(options.allowRoots ?? []).map((r) => resolve(cwd, r))]);
+  const loader = new Loader(roots, dirname(path), bundledRoot);
   let real: string;
   try {
     real = await realpath(absolute);
@@ -132,6 +132,7 @@ class Loader {
   constructor(
     private readonly roots: string[],
     private readonly givenDir: string,
+    private readonly bundledRoot: string,
   ) {}
 
   async visit(file: { display: string; absolute: string; real: string }): Promise<void> {
@@ -171,8 +172,24 @@ class Loader {
     entry: { source: YamlSource; offset: number; segments: Segment[] },
   ): Promise<void> {
     const problem = (message: string) => this.add(from.display, entry.source, { offset: entry.offset, segments: entry.segments, message });
-    const absolute = resolve(dirname(from.absolute), value);
-    const display = isAbsolute(value) ? value : normalize(join(dirname(from.display), value));
+    // `bundled:NAME` names one of vibgate's own rule files, wherever vibgate is installed
+    const bundled = value.startsWith(BUNDLED_PREFIX) ? value.slice(BUNDLED_PREFIX.length) : undefined;
+    if (bundled !== undefined && !/^[a-z0-9][a-z0-9-]*(\.yaml)?$/.test(bundled)) {
+      problem(`${JSON.stringify(value)} does not name a bundled rule file (bundled:NAME, for example bundled:random-vibration)`);
+      return;
+    }
+    const absolute =
+      bundled !== undefined
+        ? join(this.bundledRoot, bundled.endsWith('.yaml') ? bundled : `${bundled}.yaml`)
+        : resolve(dirname(from.absolute), value);
+    const display =
+      bundled !== undefined
+        ? value
+        : from.display.startsWith(BUNDLED_PREFIX) && !isAbsolute(value)
+          ? `${BUNDLED_PREFIX}${normalize(value)}`
+          : isAbsolute(value)
+            ? value
+            : normalize(join(dirname(from.display), value));
     let real: string;
     try {
       real = await realpath(absolute);
