@@ -1,6 +1,7 @@
 #!/usr/bin/env node
-// `npm run demo`: makes the demo recordings if missing, then shows what vibgate sees in them.
-import { existsSync, mkdirSync, writeFileSync } from 'node:fs';
+// `npm run demo`: makes the demo recording if missing, screens it with the bundled rule file
+// for random vibration, and writes the reports to demo-output/.
+import { existsSync, mkdirSync } from 'node:fs';
 import { dirname, join, relative } from 'node:path';
 import { fileURLToPath } from 'node:url';
 import { execFileSync } from 'node:child_process';
@@ -11,21 +12,24 @@ const recording = join(data, 'kx40-random-run3.wav');
 if (!existsSync(recording)) execFileSync(process.execPath, [join(root, 'scripts', 'make-demo-data.mjs')], { stdio: 'inherit' });
 
 const { main } = await import(join(root, 'dist', 'cli', 'main.js'));
-const rel = relative(process.cwd(), recording) || recording;
-const io = { stdout: process.stdout, stderr: process.stderr, env: process.env, cwd: process.cwd() };
-process.stdout.write(`\n$ vibgate inspect ${rel}\n\n`);
-const code = await main(['inspect', rel], io);
-
+const here = (p) => relative(process.cwd(), p) || p;
 const outDir = join(root, 'demo-output');
 mkdirSync(outDir, { recursive: true });
-let json = '';
-const capture = { ...io, stdout: { write: (s) => { json += s; return true; } } };
-await main(['inspect', rel, '--format', 'json'], capture);
-writeFileSync(join(outDir, 'inspect.json'), json);
+const io = { stdout: process.stdout, stderr: process.stderr, env: process.env, cwd: process.cwd() };
+
+const args = [
+  'screen', here(recording),
+  '--rules', here(join(root, 'rules', 'random-vibration.yaml')),
+  '--junit', here(join(outDir, 'junit.xml')),
+  '--json', here(join(outDir, 'record.json')),
+];
+process.stdout.write(`\n$ vibgate ${args.join(' ')}\n\n`);
+const code = await main(args, io);
+
 process.stdout.write(
-  `Statistics for tools: ${relative(process.cwd(), join(outDir, 'inspect.json'))}\n` +
-    'Look at connector-bkt (one-sided spikes: crest factor, skewness and frame kurtosis high),\n' +
-    'pcb-corner (clipped at its ±10 g range: kurtosis low, samples at full scale),\n' +
-    'box-lid-z (a 0.6 s run of zeros at 41.2 s) and fixture-mon (mean 0.9 g: an offset).\n',
+  `\nvibgate exited with ${code} (${code === 0 ? 'the gate passed' : code === 1 ? 'the gate failed: exactly what a CI job would stop on' : 'a usage or rule-file error'}).\n` +
+    `Reports: ${here(join(outDir, 'junit.xml'))} (JUnit XML for the CI server), ${here(join(outDir, 'record.json'))} (the JSON audit record).\n` +
+    `All statistics of every channel: vibgate inspect ${here(recording)}\n`,
 );
-process.exitCode = code;
+// The demo itself succeeded when the gate did its job (pass or fail); only an error is an error.
+process.exitCode = code === 2 ? 2 : 0;
