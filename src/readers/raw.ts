@@ -175,9 +175,10 @@ async function* rawBlocks(read: RawRead, options: BlockOptions = {}): AsyncGener
   const view = new DataView(buffer.buffer, buffer.byteOffset, buffer.byteLength);
   read.meter?.acquire(bufferBytes);
   try {
-    let frame = 0;
-    while (frame < read.sampleCount) {
-      const length = Math.min(frames, read.sampleCount - frame);
+    let frame = Math.max(0, Math.min(read.sampleCount, Math.floor(options.startFrame ?? 0)));
+    const end = Math.max(frame, Math.min(read.sampleCount, Math.ceil(options.endFrame ?? read.sampleCount)));
+    while (frame < end) {
+      const length = Math.min(frames, end - frame);
       const block = Array.from({ length: channelCount }, () => new Float64Array(length));
       let filled = 0;
       while (filled < length) {

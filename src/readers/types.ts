@@ -63,6 +63,13 @@ export interface Recording {
 export interface BlockOptions {
   /** Sample frames per block (the reader may deliver fewer at the end). Default 65536. */
   blockFrames?: number;
+  /**
+   * Start at this sample frame and stop before `endFrame`, for reading a short excerpt.
+   * Seekable formats (WAV, raw) honour it; others may deliver from the start, so callers
+   * use `readWindow`, which trims by each block's `start`.
+   */
+  startFrame?: number;
+  endFrame?: number;
   /** Called after each block with the bytes consumed so far, for progress display. */
   onProgress?: (bytesRead: number, bytesTotal: number) => void;
 }

@@ -404,13 +404,15 @@ async function* readBlocks(
   const fh = await openReadOnly(path);
   let buffer: Buffer | undefined;
   try {
-    if (frameCount === 0) return;
+    const first = Math.max(0, Math.min(frameCount, Math.floor(options.startFrame ?? 0)));
+    const end = Math.max(first, Math.min(frameCount, Math.ceil(options.endFrame ?? frameCount)));
+    if (end === first) return;
     // allocUnsafeSlow: never a slice of the shared pool, and no zero-fill (every byte
     // decoded is read first).
-    buffer = Buffer.allocUnsafeSlow(Math.min(blockFrames, frameCount) * blockAlign);
+    buffer = Buffer.allocUnsafeSlow(Math.min(blockFrames, end - first) * blockAlign);
     meter?.acquire(buffer.byteLength);
-    for (let start = 0; start < frameCount; ) {
-      const length = Math.min(blockFrames, frameCount - start);
+    for (let start = first; start < end; ) {
+      const length = Math.min(blockFrames, end - start);
       const want = length * blockAlign;
       const got = await readFully(fh, buffer, want, dataStart + start * blockAlign);
       if (got < want) {
