@@ -1,4 +1,9 @@
 import { openRecording } from '../readers/index.js';
+import type { Recording } from '../readers/types.js';
+import { readWindow } from '../readers/window.js';
+import { frameSeries } from '../stats/channel-stats.js';
+import type { RecordingSummary } from '../stats/summarise.js';
+import type { ChannelDetail } from '../report/detail.js';
 import { summariseBlocks } from '../stats/summarise.js';
 import { RecordingError } from '../errors.js';
 import { judgeRecording, unreadableRecording, worst } from '../gate/judge.js';
@@ -30,6 +35,16 @@ export interface ScreenOptions {
 
 /** Reads, summarises and judges one recording; a read failure becomes an `error` verdict. */
 export async function screenRecording(path: string, rules: ResolvedRules, options: ScreenOptions): Promise<RecordingVerdict> {
+  return (await screenWithDetail(path, rules, options, false)).verdict;
+}
+
+/** As screenRecording, plus the report detail (frame trends, excerpts) when asked for. */
+export async function screenWithDetail(
+  path: string,
+  rules: ResolvedRules,
+  options: ScreenOptions,
+  wantDetail: boolean,
+): Promise<{ verdict: RecordingVerdict; detail: ChannelDetail[] | null }> {
   let sha256: string | null = null;
   try {
     const recording = await openRecording(path, { sidecar: options.sidecar, sampleRate: options.sampleRate, decimalComma: options.decimalComma });
@@ -37,15 +52,44 @@ export async function screenRecording(path: string, rules: ResolvedRules, option
     const hashing = sha256File(path).catch(() => null);
     const summary = await summariseBlocks(recording.blocks(), recording, rules.analysis);
     sha256 = await hashing;
-    return judgeRecording(
+    const verdict = judgeRecording(
       { path, sha256, format: recording.format, sampleRate: recording.sampleRate, channels: recording.channels, notes: recording.notes, summary },
       rules,
     );
+    return { verdict, detail: wantDetail ? await reportDetail(recording, summary, verdict) : null };
   } catch (err) {
-    if (err instanceof RecordingError) return unreadableRecording(path, err.message, sha256);
-    if (err instanceof RangeError) return unreadableRecording(path, `Cannot screen "${path}": ${err.message}`, sha256);
+    if (err instanceof RecordingError) return { verdict: unreadableRecording(path, err.message, sha256), detail: null };
+    if (err instanceof RangeError) return { verdict: unreadableRecording(path, `Cannot screen "${path}": ${err.message}`, sha256), detail: null };
     throw err;
   }
+}
+
+/** Longest excerpt shown, and how much context either side of a finding's time span. */
+const EXCERPT_MAX_S = 2;
+const EXCERPT_CONTEXT_S = 0.25;
+
+async function reportDetail(recording: Recording, summary: RecordingSummary, verdict: RecordingVerdict): Promise<ChannelDetail[]> {
+  const fs = recording.sampleRate;
+  const details: ChannelDetail[] = summary.channels.map((s) => {
+    const series = (k: Parameters<typeof frameSeries>[1]) => Array.from(frameSeries(s.frames, k, fs).value);
+    return {
+      frames: { timeS: Array.from(frameSeries(s.frames, 'rms', fs).timeS), rms: series('rms'), mean: series('mean'), kurtosis: series('kurtosis'), skewness: series('skewness') },
+      excerpt: null,
+    };
+  });
+  for (const [i, ch] of verdict.channels.entries()) {
+    if (ch.verdict !== 'fail' && ch.verdict !== 'warn') continue;
+    // the first failing finding that is located in time (warnings if nothing failed)
+    const located = ch.findings.filter((f) => f.at && f.at.endS - f.at.startS <= EXCERPT_MAX_S * 4);
+    const pick = located.find((f) => f.status === 'fail') ?? located.find((f) => f.status === 'warn');
+    if (!pick?.at) continue;
+    const mid = (pick.at.startS + pick.at.endS) / 2;
+    const half = Math.min(EXCERPT_MAX_S / 2, (pick.at.endS - pick.at.startS) / 2 + EXCERPT_CONTEXT_S);
+    const startS = Math.max(0, mid - half);
+    const [values] = await readWindow(recording, [i], Math.floor(startS * fs), Math.ceil((mid + half) * fs));
+    details[i].excerpt = { startS: Math.floor(startS * fs) / fs, sampleRate: fs, values: Array.from(values), check: pick.check };
+  }
+  return details;
 }
 
 /** `vibgate screen`: the gate. Exit 0 pass (warnings allowed), 1 failed or unreadable, 2 usage or rules. */
