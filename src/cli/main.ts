@@ -70,6 +70,7 @@ export async function main(argv: string[], io: CliIo): Promise<number> {
     .requiredOption('-r, --rules <file>', 'rule file (YAML) for this kind of test')
     .option('--junit <file>', 'write JUnit XML for the CI server (atomically)')
     .option('--json <file>', 'write the JSON audit record (atomically)')
+    .option('--github', 'GitHub Actions: annotations for failing channels, and a job summary to $GITHUB_STEP_SUMMARY')
     .option('-q, --quiet', 'print only failing recordings and the final verdict')
     .option('--max-warnings <n>', 'fail the gate when there are more than n warnings', nonNegativeInteger)
     .option('--sidecar <file>', 'channel metadata file for every recording (default: <recording>.channels.yaml when present)')
@@ -83,6 +84,7 @@ export async function main(argv: string[], io: CliIo): Promise<number> {
           rules: o.rules as string,
           junit: o.junit as string | undefined,
           json: o.json as string | undefined,
+          github: o.github === true,
           quiet: o.quiet === true,
           maxWarnings: o.maxWarnings as number | undefined,
           sidecar: o.sidecar as string | undefined,

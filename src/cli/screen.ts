@@ -13,6 +13,8 @@ import type { ResolvedRules } from '../rules/types.js';
 import { junitReport } from '../report/junit.js';
 import { jsonRecord } from '../report/json-record.js';
 import { terminalReport } from '../report/terminal.js';
+import { githubAnnotations, markdownSummary } from '../report/github.js';
+import { appendFile } from 'node:fs/promises';
 import { tool } from '../version.js';
 import { sha256File } from './hash.js';
 import { writeFileAtomic } from './write-atomic.js';
@@ -22,6 +24,8 @@ export interface ScreenOptions {
   rules: string;
   junit?: string;
   json?: string;
+  /** GitHub Actions: workflow annotations on stdout, a Markdown job summary to $GITHUB_STEP_SUMMARY. */
+  github?: boolean;
   quiet?: boolean;
   maxWarnings?: number;
   sidecar?: string;
@@ -117,6 +121,19 @@ export async function runScreen(paths: string[], options: ScreenOptions, io: Cli
 
   const color = io.stdout.isTTY === true && !io.env.NO_COLOR;
   io.stdout.write(terminalReport(result, { color, quiet: options.quiet }));
+  if (options.github) {
+    io.stdout.write(githubAnnotations(result));
+    const summaryFile = io.env.GITHUB_STEP_SUMMARY;
+    if (summaryFile) {
+      try {
+        // appended, as GitHub documents: other steps' summaries share the file
+        await appendFile(summaryFile, markdownSummary(result) + '\n');
+      } catch (err) {
+        io.stderr.write(`vibgate: Cannot write the job summary to "${summaryFile}": ${(err as Error).message}\n`);
+        return ExitCode.failed;
+      }
+    }
+  }
 
   const outputs: Array<[string | undefined, () => string]> = [
     [options.junit, () => junitReport(result)],

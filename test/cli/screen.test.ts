@@ -140,3 +140,18 @@ describe('vibgate screen', () => {
     expect(bad.stderr).not.toContain('    at ');
   });
 });
+
+describe('vibgate screen --github', () => {
+  it('prints workflow annotations and appends a Markdown job summary to $GITHUB_STEP_SUMMARY', async () => {
+    const summary = join(dir, 'summary.md');
+    await writeFile(summary, 'earlier step\n');
+    const r = await runCli(['screen', faulty, '--rules', rules, '--github'], { GITHUB_STEP_SUMMARY: summary });
+    expect(r.code).toBe(1);
+    const line = r.stdout.split('\n').find((l) => l.startsWith('::error '))!;
+    expect(line).toContain('title=ch2 / dropout');
+    expect(line).toContain(`file=${faulty.replace(/:/g, '%3A').replace(/,/g, '%2C')}`);
+    const md = await readFile(summary, 'utf8');
+    expect(md.startsWith('earlier step\n')).toBe(true);
+    expect(md).toContain('dropout');
+  });
+});
