@@ -1,6 +1,6 @@
 import { emptyMoments, mergeMoments, momentsOf, type Moments } from './moments.js';
 import { addToFrame, emptyFrameTable, type FrameTable } from './frames.js';
-import { RunTracker, type RunState } from './runs.js';
+import type { RunState } from './runs.js';
 
 /** How frames are laid over the record. */
 export interface FrameGeometry {
@@ -38,119 +38,393 @@ export interface ChannelSummary {
   frames: FrameTable;
 }
 
+const scratch = new Float64Array(8);
+/** Samples per call of the hot loop. */
+const CHUNK = 2048;
+
 /**
- * One pass over one channel's samples, block by block. Per block: a tight loop for runs and
- * extremes, then, per elementary segment (the block cut at every frame start and end), a
- * two-pass moment computation merged into the frames it belongs to and into the whole.
+ * The hot loop, as a plain function (V8 optimises it best outside the class): power sums of
+ * x − K, extremes, and the count of samples equal to their predecessor. Writes
+ * [S1, S2, S3, S4, min, max, 0, 0] into `out`; returns the repeat count.
+ */
+function sums(x: Float64Array, from: number, to: number, K: number, prev: number, out: Float64Array): number {
+  let reps = 0;
+  let s1 = 0;
+  let s2 = 0;
+  let s3 = 0;
+  let s4 = 0;
+  let mn = Infinity;
+  let mx = -Infinity;
+  for (let i = from; i < to; i++) {
+    const v = x[i];
+    if (v === prev) reps++;
+    prev = v;
+    const d = v - K;
+    const d2 = d * d;
+    s1 += d;
+    s2 += d2;
+    s3 += d2 * d;
+    s4 += d2 * d2;
+    if (v < mn) mn = v;
+    if (v > mx) mx = v;
+  }
+  out[0] = s1; out[1] = s2; out[2] = s3; out[3] = s4; out[4] = mn; out[5] = mx; out[6] = 0; out[7] = 0;
+  return reps;
+}
+
+/** As `sums`, also counting samples at or beyond the clip levels into out[6], out[7]. */
+function sumsWithClip(x: Float64Array, from: number, to: number, K: number, prev: number, lo: number, hi: number, out: Float64Array): number {
+  let reps = 0;
+  let s1 = 0;
+  let s2 = 0;
+  let s3 = 0;
+  let s4 = 0;
+  let mn = Infinity;
+  let mx = -Infinity;
+  let cl = 0;
+  let ch = 0;
+  for (let i = from; i < to; i++) {
+    const v = x[i];
+    if (v === prev) reps++;
+    prev = v;
+    const d = v - K;
+    const d2 = d * d;
+    s1 += d;
+    s2 += d2;
+    s3 += d2 * d;
+    s4 += d2 * d2;
+    if (v < mn) mn = v;
+    if (v > mx) mx = v;
+    if (v <= lo) cl++;
+    else if (v >= hi) ch++;
+  }
+  out[0] = s1; out[1] = s2; out[2] = s3; out[3] = s4; out[4] = mn; out[5] = mx; out[6] = cl; out[7] = ch;
+  return reps;
+}
+
+/** Samples used to pick the shift of the first segment (see `push`). */
+const SHIFT_PROBE = 64;
+/**
+ * A segment whose mean lies more than √64 = 8 standard deviations from the shift is summed
+ * again two-pass: beyond that, Σd⁴ − 4m·Σd³ + … would cancel more than a few digits.
+ */
+const SHIFT_GUARD = 64;
+
+/**
+ * One pass over one channel's samples, block by block: the hot loop of vibgate.
+ *
+ * Per elementary segment (the block cut at every frame start and end) a single loop
+ * tracks runs of identical values and the extremes with their runs, counts non-finite and
+ * clipped samples, and sums the powers of d = x − K for a shift K close to the mean (the
+ * running mean of the record so far; for the first segment the mean of its first 64 finite
+ * samples). The shifted power sums give the segment's central moments exactly in algebra
+ * (M2 = S2 − S1²/n, M3 = S3 − 3mS2 + 2nm³, M4 = S4 − 4mS3 + 6m²S2 − 3nm⁴ with m = S1/n);
+ * with K near the mean the cancellation is negligible, and a segment far from K is summed
+ * again two-pass (SHIFT_GUARD). Segments are merged into the whole and into their frames
+ * with Pébay's formulas. `ReferenceAccumulator` is the plain version tests compare with.
+ *
+ * All state is plain number fields so that V8 keeps the loop monomorphic.
  */
 export class ChannelAccumulator {
-  private readonly geometry: FrameGeometry;
+  private readonly frameSamples: number;
+  private readonly hopSamples: number;
   private readonly clipLow: number;
   private readonly clipHigh: number;
   private readonly hasClip: boolean;
   private readonly begin: number;
   private next: number;
   private readonly whole: Moments = emptyMoments();
+  private readonly seg: Moments = emptyMoments();
+  private shift = NaN;
   private nonFinite = 0;
   private firstNonFinite = -1;
   private countLow = 0;
   private countHigh = 0;
-  private readonly runs: RunTracker;
   private readonly frames: FrameTable;
+  // runs
+  private prev = NaN;
+  private runStart = 0;
+  private runLength = 0;
+  private first = NaN;
+  private leading = -1;
+  private longestLength = 0;
+  private longestStart: number;
+  private longestValue = NaN;
+  private zeroLength = 0;
+  private zeroStart: number;
+  private lowValue = Infinity;
+  private lowCount = 0;
+  private lowSq = 0;
+  private lowRepeated = 0;
+  private lowFirst = -1;
+  private highValue = -Infinity;
+  private highCount = 0;
+  private highSq = 0;
+  private highRepeated = 0;
+  private highFirst = -1;
 
   constructor(geometry: FrameGeometry, clip: ClipLevels = { low: undefined, high: undefined }, start = 0) {
     if (!(geometry.frameSamples >= 1) || !(geometry.hopSamples >= 1) || geometry.hopSamples > geometry.frameSamples) {
       throw new RangeError(`Frame of ${geometry.frameSamples} samples with hop ${geometry.hopSamples} is not valid`);
     }
-    this.geometry = geometry;
+    this.frameSamples = geometry.frameSamples;
+    this.hopSamples = geometry.hopSamples;
     this.clipLow = clip.low ?? -Infinity;
     this.clipHigh = clip.high ?? Infinity;
     this.hasClip = clip.low !== undefined || clip.high !== undefined;
     this.begin = start;
     this.next = start;
-    this.runs = new RunTracker(start);
+    this.longestStart = start;
+    this.zeroStart = start;
     this.frames = emptyFrameTable(geometry.frameSamples, geometry.hopSamples);
   }
 
   /** Feeds x[0..length), the samples that follow those fed so far. */
   push(x: Float64Array, length = x.length): void {
     const base = this.next;
-    this.runs.push(x, length);
-
-    let nonFinite = 0;
-    if (this.hasClip) {
-      const lo = this.clipLow;
-      const hi = this.clipHigh;
-      let cl = 0;
-      let ch = 0;
-      for (let i = 0; i < length; i++) {
-        const v = x[i];
-        if (v <= lo) cl++;
-        else if (v >= hi) ch++;
-        else if (v - v !== 0) nonFinite++;
-      }
-      // ±Inf sit beyond the clip levels; count them as non-finite only
-      this.countLow += cl;
-      this.countHigh += ch;
-      if (cl + ch > 0) {
-        for (let i = 0; i < length; i++) {
-          const v = x[i];
-          if (v === Infinity) { this.countHigh--; nonFinite++; }
-          else if (v === -Infinity) { this.countLow--; nonFinite++; }
-        }
-      }
-    } else {
-      for (let i = 0; i < length; i++) {
-        const v = x[i];
-        if (v - v !== 0) nonFinite++;
-      }
-    }
-    if (nonFinite > 0) {
-      if (this.firstNonFinite < 0) {
-        for (let i = 0; i < length; i++) {
-          const v = x[i];
-          if (v - v !== 0) { this.firstNonFinite = base + i; break; }
-        }
-      }
-      this.nonFinite += nonFinite;
-    }
-
-    // Elementary segments: cut at every frame start (k·hop) and frame end (k·hop + L).
-    const L = this.geometry.frameSamples;
-    const hop = this.geometry.hopSamples;
+    if (length <= 0) return;
+    if (base === this.begin) this.first = x[0] - x[0] === 0 ? x[0] : NaN;
+    const L = this.frameSamples;
+    const hop = this.hopSamples;
     const end = base + length;
     let p = base;
     while (p < end) {
       const nextStart = (Math.floor(p / hop) + 1) * hop;
       const kEnd = Math.max(0, Math.floor((p - L) / hop) + 1);
-      const nextEnd = kEnd * hop + L;
-      const q = Math.min(end, nextStart, nextEnd);
-      const seg = momentsOf(x, p - base, q - base);
-      let segMin = Infinity;
-      let segMax = -Infinity;
-      if (nonFinite === 0) {
-        for (let i = p - base; i < q - base; i++) {
-          const v = x[i];
-          if (v < segMin) segMin = v;
-          if (v > segMax) segMax = v;
-        }
-      } else {
-        // NaN compares false anyway, but ±Inf must not become a frame's extreme
-        for (let i = p - base; i < q - base; i++) {
-          const v = x[i];
-          if (v - v !== 0) continue;
-          if (v < segMin) segMin = v;
-          if (v > segMax) segMax = v;
-        }
-      }
-      mergeMoments(this.whole, seg, this.whole);
-      // frames k with k·hop ≤ p and q ≤ k·hop + L
-      const kFirst = Math.max(0, Math.ceil((q - L) / hop));
-      const kLast = Math.floor(p / hop);
-      for (let k = kFirst; k <= kLast; k++) addToFrame(this.frames, k, seg, segMin, segMax);
+      const q = Math.min(end, nextStart, kEnd * hop + L);
+      this.segment(x, p - base, q - base, base);
       p = q;
     }
     this.next = end;
+  }
+
+  /**
+   * One elementary segment x[from..to) (block offsets; `base` is the block's first index).
+   * Fast path: one loop of power sums, extremes and a count of repeated neighbours; when the
+   * segment has no repeated neighbour and no non-finite sample (continuous data, nearly
+   * always), every run in it is one sample long and the run bookkeeping needs only the
+   * extremes, touched again only when the segment reaches the record's min or max. Else the
+   * full loop (`slowSegment`) runs.
+   */
+  private segment(x: Float64Array, from: number, to: number, base: number): void {
+    if (Number.isNaN(this.shift) || this.leading < 0) {
+      this.slowSegment(x, from, to, base);
+      return;
+    }
+    const K = this.shift;
+    const out = scratch;
+    // Measured on this kind of machine: the loop runs about twice as fast over runs of a few
+    // thousand samples as over one long run, so long segments are summed in chunks.
+    let reps = 0;
+    let s1 = 0, s2 = 0, s3 = 0, s4 = 0, segMin = Infinity, segMax = -Infinity, cl = 0, ch = 0;
+    let prev = this.prev;
+    for (let a = from; a < to; a += CHUNK) {
+      const b = Math.min(to, a + CHUNK);
+      reps += this.hasClip
+        ? sumsWithClip(x, a, b, K, prev, this.clipLow, this.clipHigh, out)
+        : sums(x, a, b, K, prev, out);
+      prev = x[b - 1];
+      s1 += out[0]; s2 += out[1]; s3 += out[2]; s4 += out[3];
+      if (out[4] < segMin) segMin = out[4];
+      if (out[5] > segMax) segMax = out[5];
+      cl += out[6]; ch += out[7];
+    }
+    // a NaN or ±Inf anywhere makes the sums non-finite
+    if (reps > 0 || !(s4 - s4 === 0) || !(s1 - s1 === 0)) {
+      this.slowSegment(x, from, to, base);
+      return;
+    }
+    if (this.runLength > 0) this.closeRun(this.prev, this.runStart, this.runLength);
+    if (segMin <= this.lowValue || segMax >= this.highValue) {
+      // the segment reaches the record's extremes: count its samples there (all in runs of
+      // one); the last sample stays an open run, counted when it closes
+      const last = to - 1;
+      for (let i = from; i < to; i++) {
+        const v = x[i];
+        if (v < this.lowValue) {
+          this.lowValue = v; this.lowCount = 0; this.lowSq = 0; this.lowRepeated = 0; this.lowFirst = base + i;
+        }
+        if (v === this.lowValue && i < last) { this.lowCount++; this.lowSq++; }
+        if (v > this.highValue) {
+          this.highValue = v; this.highCount = 0; this.highSq = 0; this.highRepeated = 0; this.highFirst = base + i;
+        }
+        if (v === this.highValue && i < last) { this.highCount++; this.highSq++; }
+      }
+    }
+    this.prev = x[to - 1];
+    this.runStart = base + to - 1;
+    this.runLength = 1;
+    this.countLow += cl;
+    this.countHigh += ch;
+    this.finishSegment(x, from, to, base, to - from, K, s1, s2, s3, s4, segMin, segMax);
+  }
+
+  /** The full loop: runs of any length, non-finite samples. */
+  private slowSegment(x: Float64Array, from: number, to: number, base: number): void {
+    if (Number.isNaN(this.shift)) {
+      // shift of the first segment: the mean of its first finite samples
+      let n = 0;
+      let sum = 0;
+      for (let i = from; i < to && n < SHIFT_PROBE; i++) {
+        const v = x[i];
+        if (v - v === 0) { sum += v; n++; }
+      }
+      if (n > 0) this.shift = sum / n;
+    }
+    const K = Number.isNaN(this.shift) ? 0 : this.shift;
+    const lo = this.clipLow;
+    const hi = this.clipHigh;
+    const hasClip = this.hasClip;
+    let prev = this.prev;
+    let runStart = this.runStart;
+    let runLength = this.runLength;
+    let lowValue = this.lowValue;
+    let highValue = this.highValue;
+    let n = 0;
+    let s1 = 0;
+    let s2 = 0;
+    let s3 = 0;
+    let s4 = 0;
+    let segMin = Infinity;
+    let segMax = -Infinity;
+    let cl = 0;
+    let ch = 0;
+    let nonFinite = 0;
+    for (let i = from; i < to; i++) {
+      const v = x[i];
+      if (v === prev) {
+        runLength++;
+      } else {
+        // A run of one sample that is neither an extreme nor zero changes nothing: skip the call.
+        if (runLength > 1 || prev === lowValue || prev === highValue || prev === 0 || this.leading < 0) {
+          if (runLength > 0) this.closeRun(prev, runStart, runLength);
+        }
+        if (v - v !== 0) {
+          // NaN or ±Inf: counted, ends the run, forms none, never enters the moments
+          nonFinite++;
+          if (this.firstNonFinite < 0) this.firstNonFinite = base + i;
+          prev = NaN;
+          runLength = 0;
+          continue;
+        }
+        prev = v;
+        runStart = base + i;
+        runLength = 1;
+        if (v < lowValue) {
+          lowValue = this.lowValue = v;
+          this.lowCount = 0; this.lowSq = 0; this.lowRepeated = 0; this.lowFirst = runStart;
+        }
+        if (v > highValue) {
+          highValue = this.highValue = v;
+          this.highCount = 0; this.highSq = 0; this.highRepeated = 0; this.highFirst = runStart;
+        }
+      }
+      const d = v - K;
+      const d2 = d * d;
+      s1 += d;
+      s2 += d2;
+      s3 += d2 * d;
+      s4 += d2 * d2;
+      n++;
+      if (v < segMin) segMin = v;
+      if (v > segMax) segMax = v;
+      if (hasClip) {
+        if (v <= lo) cl++;
+        else if (v >= hi) ch++;
+      }
+    }
+    this.prev = prev;
+    this.runStart = runStart;
+    this.runLength = runLength;
+    this.nonFinite += nonFinite;
+    this.countLow += cl;
+    this.countHigh += ch;
+
+    this.finishSegment(x, from, to, base, n, K, s1, s2, s3, s4, segMin, segMax);
+  }
+
+  /** Central moments of the segment from its shifted power sums; merge into whole and frames. */
+  private finishSegment(
+    x: Float64Array, from: number, to: number, base: number,
+    n: number, K: number, s1: number, s2: number, s3: number, s4: number, segMin: number, segMax: number,
+  ): void {
+    const seg = this.seg;
+    if (n === 0) {
+      seg.n = 0; seg.mean = 0; seg.m2 = 0; seg.m3 = 0; seg.m4 = 0;
+    } else {
+      const m = s1 / n;
+      const m2 = s2 - s1 * m;
+      if (!(m2 >= 0) || m * m * n > SHIFT_GUARD * m2) {
+        // far from the shift (or constant): exact two-pass over the segment
+        const exact = momentsOf(x, from, to);
+        seg.n = exact.n; seg.mean = exact.mean; seg.m2 = exact.m2; seg.m3 = exact.m3; seg.m4 = exact.m4;
+      } else {
+        const mm = m * m;
+        seg.n = n;
+        seg.mean = K + m;
+        seg.m2 = m2;
+        seg.m3 = s3 - 3 * m * s2 + 2 * n * mm * m;
+        seg.m4 = s4 - 4 * m * s3 + 6 * mm * s2 - 3 * n * mm * mm;
+      }
+    }
+    mergeMoments(this.whole, seg, this.whole);
+    if (this.whole.n > 0) this.shift = this.whole.mean;
+    const L = this.frameSamples;
+    const hop = this.hopSamples;
+    const p = base + from;
+    const q = base + to;
+    const kFirst = Math.max(0, Math.ceil((q - L) / hop));
+    const kLast = Math.floor(p / hop);
+    for (let k = kFirst; k <= kLast; k++) addToFrame(this.frames, k, seg, segMin, segMax);
+  }
+
+  private closeRun(value: number, start: number, length: number): void {
+    if (this.leading < 0) this.leading = start === this.begin ? length : 0;
+    if (length > this.longestLength) {
+      this.longestLength = length;
+      this.longestStart = start;
+      this.longestValue = value;
+    }
+    if (value === 0 && length > 1 && length > this.zeroLength) {
+      this.zeroLength = length;
+      this.zeroStart = start;
+    }
+    if (value === this.lowValue) {
+      this.lowCount += length;
+      this.lowSq += length * length;
+      if (length > 1) this.lowRepeated += length;
+    }
+    if (value === this.highValue) {
+      this.highCount += length;
+      this.highSq += length * length;
+      if (length > 1) this.highRepeated += length;
+    }
+  }
+
+  private runState(): RunState {
+    // Close the open run on saved fields so that pushing can continue afterwards.
+    const saved = [
+      this.leading, this.longestLength, this.longestStart, this.longestValue, this.zeroLength, this.zeroStart,
+      this.lowCount, this.lowSq, this.lowRepeated, this.highCount, this.highSq, this.highRepeated,
+    ];
+    if (this.runLength > 0) this.closeRun(this.prev, this.runStart, this.runLength);
+    const state: RunState = {
+      count: this.next - this.begin,
+      start: this.begin,
+      firstValue: this.first,
+      lastValue: this.runLength > 0 ? this.prev : NaN,
+      leading: this.leading < 0 ? 0 : this.leading,
+      trailing: this.runLength,
+      longest: { length: this.longestLength, start: this.longestStart, value: this.longestValue },
+      longestZero: { length: this.zeroLength, start: this.zeroStart, value: 0 },
+      low: { value: this.lowValue, count: this.lowCount, sumRunSquares: this.lowSq, repeated: this.lowRepeated, firstIndex: this.lowFirst },
+      high: { value: this.highValue, count: this.highCount, sumRunSquares: this.highSq, repeated: this.highRepeated, firstIndex: this.highFirst },
+    };
+    [
+      this.leading, this.longestLength, this.longestStart, this.longestValue, this.zeroLength, this.zeroStart,
+      this.lowCount, this.lowSq, this.lowRepeated, this.highCount, this.highSq, this.highRepeated,
+    ] = saved;
+    return state;
   }
 
   summary(): ChannelSummary {
@@ -160,7 +434,7 @@ export class ChannelAccumulator {
       moments: { ...this.whole },
       nonFinite: this.nonFinite,
       firstNonFinite: this.firstNonFinite,
-      runs: this.runs.state(),
+      runs: this.runState(),
       clip: {
         low: Number.isFinite(this.clipLow) ? this.clipLow : null,
         high: Number.isFinite(this.clipHigh) ? this.clipHigh : null,

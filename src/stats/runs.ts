@@ -135,7 +135,8 @@ export class RunTracker {
   private closeRun(value: number, start: number, length: number): void {
     if (this.leading < 0) this.leading = start === this.begin ? length : 0;
     if (length > this.longest.length) this.longest = { length, start, value };
-    if (value === 0 && length > this.longestZero.length) this.longestZero = { length, start, value: 0 };
+    // a single zero sample is no dropout: zero runs count from two samples
+    if (value === 0 && length > 1 && length > this.longestZero.length) this.longestZero = { length, start, value: 0 };
     if (value === this.lowValue) {
       this.lowCount += length;
       this.lowSq += length * length;
