@@ -1,6 +1,7 @@
 import { openRecording } from '../readers/index.js';
 import type { Recording } from '../readers/types.js';
-import { summariseBlocks, type FrameOptions, type RecordingSummary } from '../stats/summarise.js';
+import type { FrameOptions, RecordingSummary } from '../stats/summarise.js';
+import { summariseRecording } from './parallel.js';
 import { channelStats, stationarity, type ChannelStats, type StationarityResult } from '../stats/channel-stats.js';
 import { RecordingError } from '../errors.js';
 import { tool } from '../version.js';
@@ -13,6 +14,8 @@ export interface InspectOptions extends FrameOptions {
   sampleRate?: number;
   timeColumn?: string;
   decimalComma?: boolean;
+  /** Threads to use (default: the number of cores). */
+  jobs?: number;
 }
 
 /** One recording's statistics as `inspect --format json` prints them. */
@@ -42,13 +45,14 @@ export async function inspectRecording(
   options: Omit<InspectOptions, 'format'>,
   onProgress?: (bytesRead: number, bytesTotal: number) => void,
 ): Promise<{ recording: Recording; summary: RecordingSummary; result: InspectedRecording }> {
-  const recording = await openRecording(path, {
+  const open = {
     sidecar: options.sidecar,
     sampleRate: options.sampleRate,
     timeColumn: options.timeColumn,
     decimalComma: options.decimalComma,
-  });
-  const summary = await summariseBlocks(recording.blocks({ onProgress }), recording, options);
+  };
+  const recording = await openRecording(path, open);
+  const summary = await summariseRecording(recording, open, { frameSeconds: options.frameSeconds, overlap: options.overlap }, { jobs: options.jobs, onProgress });
   const fs = recording.sampleRate;
   const result: InspectedRecording = {
     path,

@@ -11,6 +11,11 @@ const positiveNumber = (what: string) => (value: string) => {
   if (!Number.isFinite(n) || n <= 0) throw new InvalidArgumentError(`${what} must be a positive number, not "${value}".`);
   return n;
 };
+const positiveInteger = (value: string) => {
+  const n = Number(value);
+  if (!Number.isSafeInteger(n) || n < 1) throw new InvalidArgumentError(`must be a whole number ≥ 1, not "${value}".`);
+  return n;
+};
 const nonNegativeInteger = (value: string) => {
   const n = Number(value);
   if (!Number.isSafeInteger(n) || n < 0) throw new InvalidArgumentError(`must be a whole number ≥ 0, not "${value}".`);
@@ -50,6 +55,7 @@ export async function main(argv: string[], io: CliIo): Promise<number> {
     .option('--sample-rate <hz>', 'sample rate for formats without one (CSV without time column, raw)', positiveNumber('sample rate'))
     .option('--time-column <name>', 'CSV: name of the time column')
     .option('--decimal-comma', 'CSV: numbers use a decimal comma (fields separated by ";" or tabs)')
+    .option('-j, --jobs <n>', 'threads to use (default: the number of cores)', positiveInteger)
     .action(async (paths: string[], opts: Record<string, unknown>) => {
       const options: InspectOptions = {
         format: opts.format as InspectOptions['format'],
@@ -59,6 +65,7 @@ export async function main(argv: string[], io: CliIo): Promise<number> {
         sampleRate: opts.sampleRate as number | undefined,
         timeColumn: opts.timeColumn as string | undefined,
         decimalComma: opts.decimalComma === true,
+        jobs: opts.jobs as number | undefined,
       };
       code = await runInspect(paths, options, io);
     });
@@ -77,6 +84,7 @@ export async function main(argv: string[], io: CliIo): Promise<number> {
     .option('--sample-rate <hz>', 'sample rate for formats without one (CSV without time column, raw)', positiveNumber('sample rate'))
     .option('--decimal-comma', 'CSV: numbers use a decimal comma (fields separated by ";" or tabs)')
     .option('--rules-root <dir...>', 'another directory the rule file\'s extends may read from')
+    .option('-j, --jobs <n>', 'threads to use (default: the number of cores)', positiveInteger)
     .action(async (paths: string[], o: Record<string, unknown>) => {
       code = await runScreen(
         paths,
@@ -91,6 +99,7 @@ export async function main(argv: string[], io: CliIo): Promise<number> {
           sampleRate: o.sampleRate as number | undefined,
           decimalComma: o.decimalComma === true,
           rulesRoots: o.rulesRoot as string[] | undefined,
+          jobs: o.jobs as number | undefined,
         },
         io,
       );

@@ -4,7 +4,7 @@ import { readWindow } from '../readers/window.js';
 import { frameSeries } from '../stats/channel-stats.js';
 import type { RecordingSummary } from '../stats/summarise.js';
 import type { ChannelDetail } from '../report/detail.js';
-import { summariseBlocks } from '../stats/summarise.js';
+import { summariseRecording } from './parallel.js';
 import { RecordingError } from '../errors.js';
 import { judgeRecording, unreadableRecording, worst } from '../gate/judge.js';
 import type { GateResult, RecordingVerdict } from '../gate/types.js';
@@ -33,6 +33,8 @@ export interface ScreenOptions {
   decimalComma?: boolean;
   /** Directories `extends` may read from besides the rule file's own tree and rules/. */
   rulesRoots?: string[];
+  /** Threads to use (default: the number of cores). */
+  jobs?: number;
   /** For reproducible records in tests: the time written into them. */
   now?: () => Date;
 }
@@ -51,10 +53,11 @@ export async function screenWithDetail(
 ): Promise<{ verdict: RecordingVerdict; detail: ChannelDetail[] | null }> {
   let sha256: string | null = null;
   try {
-    const recording = await openRecording(path, { sidecar: options.sidecar, sampleRate: options.sampleRate, decimalComma: options.decimalComma });
+    const open = { sidecar: options.sidecar, sampleRate: options.sampleRate, decimalComma: options.decimalComma };
+    const recording = await openRecording(path, open);
     // the hash is read alongside the statistics pass (from the page cache), not after it
     const hashing = sha256File(path).catch(() => null);
-    const summary = await summariseBlocks(recording.blocks(), recording, rules.analysis);
+    const summary = await summariseRecording(recording, open, rules.analysis, { jobs: options.jobs });
     sha256 = await hashing;
     const verdict = judgeRecording(
       { path, sha256, format: recording.format, sampleRate: recording.sampleRate, channels: recording.channels, notes: recording.notes, summary },
