@@ -22,13 +22,15 @@ const args = [
   '--rules', here(join(root, 'rules', 'random-vibration.yaml')),
   '--junit', here(join(outDir, 'junit.xml')),
   '--json', here(join(outDir, 'record.json')),
+  '--html', here(join(outDir, 'report.html')),
 ];
 process.stdout.write(`\n$ vibgate ${args.join(' ')}\n\n`);
 const code = await main(args, io);
 
 process.stdout.write(
   `\nvibgate exited with ${code} (${code === 0 ? 'the gate passed' : code === 1 ? 'the gate failed: exactly what a CI job would stop on' : 'a usage or rule-file error'}).\n` +
-    `Reports: ${here(join(outDir, 'junit.xml'))} (JUnit XML for the CI server), ${here(join(outDir, 'record.json'))} (the JSON audit record).\n` +
+    `Open ${here(join(outDir, 'report.html'))} in a browser to see the odd channels at a glance.\n` +
+    `For the CI server: ${here(join(outDir, 'junit.xml'))} (JUnit XML); the audit record: ${here(join(outDir, 'record.json'))}.\n` +
     `All statistics of every channel: vibgate inspect ${here(recording)}\n`,
 );
 // The demo itself succeeded when the gate did its job (pass or fail); only an error is an error.

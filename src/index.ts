@@ -25,5 +25,7 @@ export { screenRecording } from './cli/screen.js';
 export { junitReport } from './report/junit.js';
 export { jsonRecord } from './report/json-record.js';
 export { terminalReport } from './report/terminal.js';
+export { htmlReport } from './report/html.js';
+export type { ReportDetail, ChannelDetail } from './report/detail.js';
 export { main } from './cli/main.js';
 export { RecordingError, UsageError } from './errors.js';

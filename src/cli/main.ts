@@ -77,6 +77,7 @@ export async function main(argv: string[], io: CliIo): Promise<number> {
     .requiredOption('-r, --rules <file>', 'rule file (YAML) for this kind of test')
     .option('--junit <file>', 'write JUnit XML for the CI server (atomically)')
     .option('--json <file>', 'write the JSON audit record (atomically)')
+    .option('--html <file>', 'write the HTML report for people: one self-contained file (atomically)')
     .option('--github', 'GitHub Actions: annotations for failing channels, and a job summary to $GITHUB_STEP_SUMMARY')
     .option('-q, --quiet', 'print only failing recordings and the final verdict')
     .option('--max-warnings <n>', 'fail the gate when there are more than n warnings', nonNegativeInteger)
@@ -92,6 +93,7 @@ export async function main(argv: string[], io: CliIo): Promise<number> {
           rules: o.rules as string,
           junit: o.junit as string | undefined,
           json: o.json as string | undefined,
+          html: o.html as string | undefined,
           github: o.github === true,
           quiet: o.quiet === true,
           maxWarnings: o.maxWarnings as number | undefined,

@@ -14,6 +14,8 @@ import { junitReport } from '../report/junit.js';
 import { jsonRecord } from '../report/json-record.js';
 import { terminalReport } from '../report/terminal.js';
 import { githubAnnotations, markdownSummary } from '../report/github.js';
+import { htmlReport } from '../report/html.js';
+import type { ReportDetail } from '../report/detail.js';
 import { appendFile } from 'node:fs/promises';
 import { tool } from '../version.js';
 import { sha256File } from './hash.js';
@@ -24,6 +26,8 @@ export interface ScreenOptions {
   rules: string;
   junit?: string;
   json?: string;
+  /** Self-contained HTML report for people. */
+  html?: string;
   /** GitHub Actions: workflow annotations on stdout, a Markdown job summary to $GITHUB_STEP_SUMMARY. */
   github?: boolean;
   quiet?: boolean;
@@ -113,7 +117,12 @@ export async function runScreen(paths: string[], options: ScreenOptions, io: Cli
     throw err;
   }
   const recordings: RecordingVerdict[] = [];
-  for (const path of paths) recordings.push(await screenRecording(path, rules, options));
+  const detail: ReportDetail = new Map();
+  for (const path of paths) {
+    const screened = await screenWithDetail(path, rules, options, options.html !== undefined);
+    recordings.push(screened.verdict);
+    if (screened.detail) detail.set(path, screened.detail);
+  }
   const result: GateResult = {
     tool,
     createdAt: (options.now?.() ?? new Date()).toISOString(),
@@ -141,6 +150,7 @@ export async function runScreen(paths: string[], options: ScreenOptions, io: Cli
   const outputs: Array<[string | undefined, () => string]> = [
     [options.junit, () => junitReport(result)],
     [options.json, () => jsonRecord(result)],
+    [options.html, () => htmlReport(result, detail)],
   ];
   for (const [file, render] of outputs) {
     if (!file) continue;
