@@ -33,7 +33,7 @@ export const defaultJobs = (): number => Math.max(1, availableParallelism());
 /** Summarises one section in this thread (a worker's job; also the parent's own share). */
 export async function summariseSection(job: SectionJob, recording?: Recording): Promise<RecordingSummary> {
   const rec = recording ?? (await openRecording(job.path, job.open));
-  const blocks = rec.blocks({ startFrame: job.startFrame, endFrame: job.endFrame, blockFrames: blockFramesFor(rec.channels.length) });
+  const blocks = rec.blocks({ startFrame: job.startFrame, endFrame: job.endFrame, blockFrames: blockFramesFor(rec.channels.length), reuse: true });
   return summariseBlocks(blocks, rec, { ...job.frames, start: job.startFrame });
 }
 
@@ -82,7 +82,7 @@ export async function summariseRecording(
   const split =
     jobs > 1 && total !== undefined && SEEKABLE.has(recording.format) && total * recording.channels.length >= MIN_SPLIT_SAMPLES;
   if (!split) {
-    return summariseBlocks(recording.blocks({ blockFrames: blockFramesFor(recording.channels.length), onProgress: options.onProgress }), recording, frames);
+    return summariseBlocks(recording.blocks({ blockFrames: blockFramesFor(recording.channels.length), onProgress: options.onProgress, reuse: true }), recording, frames);
   }
   const bounds = Array.from({ length: jobs + 1 }, (_, k) => Math.floor((k * total!) / jobs));
   const sections = bounds.slice(0, -1).map((startFrame, k) => ({ path: recording.path, open, frames, startFrame, endFrame: bounds[k + 1] }));

@@ -23,7 +23,6 @@
  * with its line and column.
  */
 import { readFile, stat } from 'node:fs/promises';
-import { Ajv2020 } from 'ajv/dist/2020.js';
 import type { ErrorObject, ValidateFunction } from 'ajv';
 import { isMap, isScalar, isSeq, LineCounter, parseDocument } from 'yaml';
 import type { Node as YamlNode } from 'yaml';
@@ -337,6 +336,8 @@ function sidecarValidator(): Promise<ValidateFunction> {
     // src/readers and dist/readers are both two levels below the package root.
     const url = new URL('../../schemas/sidecar.schema.json', import.meta.url);
     const schema = JSON.parse(await readFile(url, 'utf8')) as object;
+    // loaded on first use: most recordings have no sidecar, and every worker thread loads this module
+    const { Ajv2020 } = await import('ajv/dist/2020.js');
     // strictNumbers: YAML `.inf` and `.nan` are numbers to JavaScript but never valid here.
     const ajv = new Ajv2020({ allErrors: true, strict: true, strictNumbers: true, verbose: true });
     return ajv.compile(schema);

@@ -70,6 +70,12 @@ export interface BlockOptions {
    */
   startFrame?: number;
   endFrame?: number;
+  /**
+   * The consumer is done with a block's channel arrays when it asks for the next block, so
+   * the reader may decode every block into the same arrays (no allocation, no garbage).
+   * Off by default: blocks may then be kept.
+   */
+  reuse?: boolean;
   /** Called after each block with the bytes consumed so far, for progress display. */
   onProgress?: (bytesRead: number, bytesTotal: number) => void;
 }

@@ -402,19 +402,32 @@ async function* readBlocks(
   const { blockAlign, frameCount, dataStart } = layout;
   const bytesTotal = frameCount * blockAlign;
   const fh = await openReadOnly(path);
-  let buffer: Buffer | undefined;
+  // Two read buffers: while one block is decoded and summed, the next is being read
+  // (reads go to the thread pool), so the disk or page cache and the CPU work at once.
+  const buffers: Buffer[] = [];
+  let pending: Promise<number> | undefined;
   try {
     const first = Math.max(0, Math.min(frameCount, Math.floor(options.startFrame ?? 0)));
     const end = Math.max(first, Math.min(frameCount, Math.ceil(options.endFrame ?? frameCount)));
     if (end === first) return;
-    // allocUnsafeSlow: never a slice of the shared pool, and no zero-fill (every byte
-    // decoded is read first).
-    buffer = Buffer.allocUnsafeSlow(Math.min(blockFrames, end - first) * blockAlign);
-    meter?.acquire(buffer.byteLength);
+    const bufferBytes = Math.min(blockFrames, end - first) * blockAlign;
+    const buffer = (k: number): Buffer => {
+      if (!buffers[k]) {
+        // allocUnsafeSlow: never a slice of the shared pool, and no zero-fill (every byte
+        // decoded is read first).
+        buffers[k] = Buffer.allocUnsafeSlow(bufferBytes);
+        meter?.acquire(bufferBytes);
+      }
+      return buffers[k];
+    };
+    let reusable: Float64Array[] | undefined;
+    let k = 0;
+    pending = readFully(fh, buffer(0), Math.min(blockFrames, end - first) * blockAlign, dataStart + first * blockAlign);
     for (let start = first; start < end; ) {
       const length = Math.min(blockFrames, end - start);
       const want = length * blockAlign;
-      const got = await readFully(fh, buffer, want, dataStart + start * blockAlign);
+      const got = (await pending) ?? 0;
+      pending = undefined;
       if (got < want) {
         throw new RecordingError(
           path,
@@ -422,13 +435,29 @@ async function* readBlocks(
           dataStart + start * blockAlign + got,
         );
       }
-      const channels = decodeFrames(layout, buffer, length);
+      const current = buffers[k];
+      const nextStart = start + length;
+      if (nextStart < end) {
+        const nextLength = Math.min(blockFrames, end - nextStart);
+        pending = readFully(fh, buffer(1 - k), nextLength * blockAlign, dataStart + nextStart * blockAlign);
+      }
+      let channels: Float64Array[];
+      if (options.reuse) {
+        reusable ??= Array.from({ length: layout.channelCount }, () => new Float64Array(bufferBytes / blockAlign));
+        decodeFrames(layout, current, length, reusable);
+        channels = length === reusable[0].length ? reusable : reusable.map((a) => a.subarray(0, length));
+      } else {
+        channels = decodeFrames(layout, current, length);
+      }
       yield { start, length, channels };
-      start += length;
+      start = nextStart;
+      k = 1 - k;
       options.onProgress?.(start * blockAlign, bytesTotal);
     }
   } finally {
-    if (buffer) meter?.release(buffer.byteLength);
+    // a read still in flight (the loop was left early) must not become an unhandled rejection
+    await pending?.catch(() => 0);
+    for (const b of buffers) meter?.release(b.byteLength);
     await fh.close();
   }
 }
@@ -441,10 +470,10 @@ async function* readBlocks(
  * Buffer#readFloatLE, and need neither alignment nor a little-endian host.
  * Scale factors are powers of two, so multiplying is exactly dividing by 2^(bits−1).
  */
-function decodeFrames(layout: WavLayout, src: Buffer, frames: number): Float64Array[] {
+function decodeFrames(layout: WavLayout, src: Buffer, frames: number, into?: Float64Array[]): Float64Array[] {
   const channelCount = layout.channelCount;
-  const out: Float64Array[] = new Array<Float64Array>(channelCount);
-  for (let c = 0; c < channelCount; c++) out[c] = new Float64Array(frames);
+  const out: Float64Array[] = into ?? new Array<Float64Array>(channelCount);
+  if (!into) for (let c = 0; c < channelCount; c++) out[c] = new Float64Array(frames);
   const view = new DataView(src.buffer, src.byteOffset, frames * layout.blockAlign);
   let o = 0;
   switch (layout.sampleFormat) {

@@ -510,12 +510,12 @@ describe('Recording.blocks()', () => {
     expect(kept.flatMap((a) => Array.from(a))).toEqual(data[0].map((v) => v / 2 ** 23));
   });
 
-  it('holds one read buffer of one block while iterating, and none afterwards', async () => {
+  it('holds two read buffers of one block while iterating (one being read, one decoded), and none afterwards', async () => {
     const meter = new ReadMeter();
     const recording = await openWav(path, { meter });
     await drain(recording, 7);
-    expect(meter.peakHeld).toBe(7 * blockAlign);
-    expect(meter.reads).toBe(1);
+    expect(meter.peakHeld).toBe(2 * 7 * blockAlign);
+    expect(meter.reads).toBe(2);
     expect(meter.held).toBe(0);
   });
 
@@ -534,7 +534,7 @@ describe('Recording.blocks()', () => {
       expect(await descriptorsOn(path)).toBe(0); // openWav closed its header handle
       for await (const block of recording.blocks({ blockFrames: 7 })) {
         expect(block.start).toBe(0);
-        expect(meter.held).toBe(7 * blockAlign);
+        expect(meter.held).toBe(2 * 7 * blockAlign); // this block's buffer, and the next one's being read
         expect(await descriptorsOn(path)).toBe(1);
         break;
       }
@@ -907,4 +907,25 @@ describe('openWav() opens files read-only', () => {
       expect((await readAll(recording)).channels[0]).toEqual([1 / 32768]);
     },
   );
+});
+
+describe('openWav blocks with reuse', () => {
+  it('decodes into the same arrays and delivers the same samples as fresh arrays', async () => {
+    const dir = await fixtureDir();
+    const n = 1000;
+    const a = Array.from({ length: n }, (_, i) => ((i * 37) % 2001) - 1000);
+    const b = Array.from({ length: n }, (_, i) => ((i * 91) % 3001) - 1500);
+    const file = await writeFixture(dir, 'reuse.wav', buildWav({ fmt: { channels: 2, sampleRate: 1000, bitsPerSample: 16 }, data: interleave('int16', [a, b]) }));
+    const rec = await openWav(file);
+    const fresh: number[] = [];
+    for await (const block of rec.blocks({ blockFrames: 64 })) fresh.push(...block.channels[1]);
+    const reused: number[] = [];
+    const arrays = new Set<ArrayBufferLike>();
+    for await (const block of rec.blocks({ blockFrames: 64, reuse: true })) {
+      reused.push(...block.channels[1].subarray(0, block.length));
+      arrays.add(block.channels[1].buffer);
+    }
+    expect(reused).toEqual(fresh);
+    expect(arrays.size).toBe(1); // one set of arrays for all 16 blocks
+  });
 });
