@@ -1,5 +1,6 @@
 import { describe, expect, it, beforeAll } from 'vitest';
 import { existsSync } from 'node:fs';
+import { createHash } from 'node:crypto';
 import { readFile, writeFile } from 'node:fs/promises';
 import { join } from 'node:path';
 import { fileURLToPath } from 'node:url';
@@ -61,7 +62,8 @@ describe('vibgate screen', () => {
     const ajv = new Ajv2020({ allErrors: true, strict: false });
     expect(ajv.validate(recordSchema, record), JSON.stringify(ajv.errors)).toBe(true);
     expect(record.verdict).toBe('pass');
-    expect(record.recordings[0].sha256).toMatch(/^[0-9a-f]{64}$/);
+    // the recording's hash is the plain SHA-256 of its bytes (what sha256sum prints)
+    expect(record.recordings[0].sha256).toBe(createHash('sha256').update(await readFile(clean)).digest('hex'));
     expect(record.rules.sha256).toMatch(/^[0-9a-f]{64}$/);
     const xml = new XMLParser({ ignoreAttributes: false, attributeNamePrefix: '' }).parse(await readFile(junit, 'utf8'));
     const suite = xml.testsuites.testsuite;
