@@ -230,8 +230,17 @@ export class ChannelAccumulator {
       cl += out[6]; ch += out[7];
     }
     // a NaN or ±Inf anywhere makes the sums non-finite
-    if (reps > 0 || !(s4 - s4 === 0) || !(s1 - s1 === 0)) {
+    if (!(s4 - s4 === 0) || !(s1 - s1 === 0)) {
+      // a NaN or ±Inf somewhere: the full loop counts and skips them
       this.slowSegment(x, from, to, base);
+      return;
+    }
+    if (reps > 0) {
+      // runs of two or more (quantised or held data): the sums stand, only runs need the loop
+      this.runsOnly(x, from, to, base);
+      this.countLow += cl;
+      this.countHigh += ch;
+      this.finishSegment(x, from, to, base, to - from, K, s1, s2, s3, s4, segMin, segMax);
       return;
     }
     if (this.runLength > 0) this.closeRun(this.prev, this.runStart, this.runLength);
@@ -257,6 +266,39 @@ export class ChannelAccumulator {
     this.countLow += cl;
     this.countHigh += ch;
     this.finishSegment(x, from, to, base, to - from, K, s1, s2, s3, s4, segMin, segMax);
+  }
+
+  /** Run and extreme bookkeeping over finite samples x[from..to) (the sums are done elsewhere). */
+  private runsOnly(x: Float64Array, from: number, to: number, base: number): void {
+    let prev = this.prev;
+    let runStart = this.runStart;
+    let runLength = this.runLength;
+    let lowValue = this.lowValue;
+    let highValue = this.highValue;
+    for (let i = from; i < to; i++) {
+      const v = x[i];
+      if (v === prev) {
+        runLength++;
+        continue;
+      }
+      if (runLength > 1 || prev === lowValue || prev === highValue || prev === 0) {
+        if (runLength > 0) this.closeRun(prev, runStart, runLength);
+      }
+      prev = v;
+      runStart = base + i;
+      runLength = 1;
+      if (v < lowValue) {
+        lowValue = this.lowValue = v;
+        this.lowCount = 0; this.lowSq = 0; this.lowRepeated = 0; this.lowFirst = runStart;
+      }
+      if (v > highValue) {
+        highValue = this.highValue = v;
+        this.highCount = 0; this.highSq = 0; this.highRepeated = 0; this.highFirst = runStart;
+      }
+    }
+    this.prev = prev;
+    this.runStart = runStart;
+    this.runLength = runLength;
   }
 
   /** The full loop: runs of any length, non-finite samples. */
