@@ -1,6 +1,7 @@
 import { emptyMoments, mergeMoments, momentsOf, type Moments } from './moments.js';
 import { addToFrame, emptyFrameTable, type FrameTable } from './frames.js';
 import type { RunState } from './runs.js';
+import { available as wasmAvailable, wasmSums } from './wasm/kernel.js';
 
 /** How frames are laid over the record. */
 export interface FrameGeometry {
@@ -47,7 +48,7 @@ const CHUNK = 2048;
  * x − K, extremes, and the count of samples equal to their predecessor. Writes
  * [S1, S2, S3, S4, min, max, 0, 0] into `out`; returns the repeat count.
  */
-function sums(x: Float64Array, from: number, to: number, K: number, prev: number, out: Float64Array): number {
+export function sums(x: Float64Array, from: number, to: number, K: number, prev: number, out: Float64Array): number {
   let reps = 0;
   let s1 = 0;
   let s2 = 0;
@@ -73,7 +74,7 @@ function sums(x: Float64Array, from: number, to: number, K: number, prev: number
 }
 
 /** As `sums`, also counting samples at or beyond the clip levels into out[6], out[7]. */
-function sumsWithClip(x: Float64Array, from: number, to: number, K: number, prev: number, lo: number, hi: number, out: Float64Array): number {
+export function sumsWithClip(x: Float64Array, from: number, to: number, K: number, prev: number, lo: number, hi: number, out: Float64Array): number {
   let reps = 0;
   let s1 = 0;
   let s2 = 0;
@@ -220,9 +221,11 @@ export class ChannelAccumulator {
     let prev = this.prev;
     for (let a = from; a < to; a += CHUNK) {
       const b = Math.min(to, a + CHUNK);
-      reps += this.hasClip
-        ? sumsWithClip(x, a, b, K, prev, this.clipLow, this.clipHigh, out)
-        : sums(x, a, b, K, prev, out);
+      reps += wasmAvailable
+        ? wasmSums(x, a, b, K, prev, this.clipLow, this.clipHigh, out)
+        : this.hasClip
+          ? sumsWithClip(x, a, b, K, prev, this.clipLow, this.clipHigh, out)
+          : sums(x, a, b, K, prev, out);
       prev = x[b - 1];
       s1 += out[0]; s2 += out[1]; s3 += out[2]; s4 += out[3];
       if (out[4] < segMin) segMin = out[4];

@@ -52,8 +52,9 @@ export function addToFrame(t: FrameTable, k: number, seg: Moments, min: number, 
   scratch.n = t.n[s]; scratch.mean = t.mean[s]; scratch.m2 = t.m2[s]; scratch.m3 = t.m3[s]; scratch.m4 = t.m4[s];
   mergeMoments(scratch, seg, scratch);
   t.n[s] = scratch.n; t.mean[s] = scratch.mean; t.m2[s] = scratch.m2; t.m3[s] = scratch.m3; t.m4[s] = scratch.m4;
-  if (min < t.min[s]) t.min[s] = min;
-  if (max > t.max[s]) t.max[s] = max;
+  // + 0 turns −0 into 0: which of two equal zeros is "smaller" depends on summation order
+  if (min < t.min[s]) t.min[s] = min + 0;
+  if (max > t.max[s]) t.max[s] = max + 0;
 }
 
 /** Frame table of a record made of part `a` followed by part `b`. */
