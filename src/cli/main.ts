@@ -2,8 +2,10 @@ import { Command, CommanderError, InvalidArgumentError, Option } from 'commander
 import { UsageError } from '../errors.js';
 import { tool } from '../version.js';
 import { runInspect, type InspectOptions } from './inspect.js';
-import { runScreen } from './screen.js';
-import { runRulesChecks, runRulesValidate } from './rules.js';
+// screen and rules load the rule engine and every reporter: imported when used, so that
+// `inspect` (and every worker thread) starts faster
+const screenModule = () => import('./screen.js');
+const rulesModule = () => import('./rules.js');
 import { ExitCode, type CliIo } from './io.js';
 
 const positiveNumber = (what: string) => (value: string) => {
@@ -87,6 +89,7 @@ export async function main(argv: string[], io: CliIo): Promise<number> {
     .option('--rules-root <dir...>', 'another directory the rule file\'s extends may read from')
     .option('-j, --jobs <n>', 'threads to use (default: the number of cores)', positiveInteger)
     .action(async (paths: string[], o: Record<string, unknown>) => {
+      const { runScreen } = await screenModule();
       code = await runScreen(
         paths,
         {
@@ -115,12 +118,14 @@ export async function main(argv: string[], io: CliIo): Promise<number> {
     .addOption(new Option('-f, --format <format>', 'output for people or tools').choices(['text', 'json']).default('text'))
     .option('--rules-root <dir...>', 'another directory extends may read from')
     .action(async (file: string, o: { format: 'text' | 'json'; rulesRoot?: string[] }) => {
+      const { runRulesValidate } = await rulesModule();
       code = await runRulesValidate(file, io, { format: o.format, rulesRoots: o.rulesRoot });
     });
   rules
     .command('checks')
     .description('List every check with its options and defaults.')
-    .action(() => {
+    .action(async () => {
+      const { runRulesChecks } = await rulesModule();
       code = runRulesChecks(io);
     });
 

@@ -8,6 +8,7 @@
  * so full scale is [−1, 1 − 2^−(bits−1)].
  */
 import { open, type FileHandle } from 'node:fs/promises';
+import { acquireArena, type BlockArena } from '../stats/wasm/kernel.js';
 import { RecordingError, UsageError } from '../errors.js';
 import type {
   BlockOptions,
@@ -389,6 +390,8 @@ async function describeTrailingBytes(
  * The samples, block by block. One read buffer per iteration, reused for every block;
  * each block's channel arrays are fresh.
  */
+const littleEndian = new Uint8Array(new Uint16Array([1]).buffer)[0] === 1;
+
 async function* readBlocks(
   path: string,
   layout: WavLayout,
@@ -406,12 +409,22 @@ async function* readBlocks(
   // (reads go to the thread pool), so the disk or page cache and the CPU work at once.
   const buffers: Buffer[] = [];
   let pending: Promise<number> | undefined;
+  let arena: BlockArena | undefined;
   try {
     const first = Math.max(0, Math.min(frameCount, Math.floor(options.startFrame ?? 0)));
     const end = Math.max(first, Math.min(frameCount, Math.ceil(options.endFrame ?? frameCount)));
     if (end === first) return;
     const bufferBytes = Math.min(blockFrames, end - first) * blockAlign;
+    // With reuse, read and decode inside the WebAssembly kernel's memory when it can
+    // (PCM 16/24 and float32, little-endian host): the kernel then sums the block in place.
+    arena = options.reuse && littleEndian
+      ? acquireArena(layout.sampleFormat, layout.channelCount, bufferBytes / blockAlign, blockAlign)
+      : undefined;
     const buffer = (k: number): Buffer => {
+      if (!buffers[k] && arena) {
+        buffers[k] = arena.readBuffers[k];
+        meter?.acquire(bufferBytes);
+      }
       if (!buffers[k]) {
         // allocUnsafeSlow: never a slice of the shared pool, and no zero-fill (every byte
         // decoded is read first).
@@ -442,7 +455,10 @@ async function* readBlocks(
         pending = readFully(fh, buffer(1 - k), nextLength * blockAlign, dataStart + nextStart * blockAlign);
       }
       let channels: Float64Array[];
-      if (options.reuse) {
+      if (arena) {
+        arena.decode(k as 0 | 1);
+        channels = length === arena.channels[0].length ? arena.channels : arena.channels.map((a) => a.subarray(0, length));
+      } else if (options.reuse) {
         reusable ??= Array.from({ length: layout.channelCount }, () => new Float64Array(bufferBytes / blockAlign));
         decodeFrames(layout, current, length, reusable);
         channels = length === reusable[0].length ? reusable : reusable.map((a) => a.subarray(0, length));
@@ -458,6 +474,7 @@ async function* readBlocks(
     // a read still in flight (the loop was left early) must not become an unhandled rejection
     await pending?.catch(() => 0);
     for (const b of buffers) meter?.release(b.byteLength);
+    arena?.release();
     await fh.close();
   }
 }

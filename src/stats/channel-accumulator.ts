@@ -1,7 +1,7 @@
 import { emptyMoments, mergeMoments, momentsOf, type Moments } from './moments.js';
 import { addToFrame, emptyFrameTable, type FrameTable } from './frames.js';
 import type { RunState } from './runs.js';
-import { available as wasmAvailable, wasmSums } from './wasm/kernel.js';
+import { available as wasmAvailable, KERNEL_CHUNK, wasmSums } from './wasm/kernel.js';
 
 /** How frames are laid over the record. */
 export interface FrameGeometry {
@@ -219,8 +219,10 @@ export class ChannelAccumulator {
     let reps = 0;
     let s1 = 0, s2 = 0, s3 = 0, s4 = 0, segMin = Infinity, segMax = -Infinity, cl = 0, ch = 0;
     let prev = this.prev;
-    for (let a = from; a < to; a += CHUNK) {
-      const b = Math.min(to, a + CHUNK);
+    // (the WebAssembly kernel has no such preference: it takes up to KERNEL_CHUNK at a time)
+    const step = wasmAvailable ? KERNEL_CHUNK : CHUNK;
+    for (let a = from; a < to; a += step) {
+      const b = Math.min(to, a + step);
       reps += wasmAvailable
         ? wasmSums(x, a, b, K, prev, this.clipLow, this.clipHigh, out)
         : this.hasClip

@@ -10,6 +10,10 @@ import { kernelWasmBase64 } from './kernel-wasm.js';
 interface KernelExports {
   memory: { buffer: ArrayBuffer };
   sums(p: number, n: number, K: number, prev: number, lo: number, hi: number): number;
+  deint_f32(src: number, dst: number, channels: number, frames: number): void;
+  deint_i16(src: number, dst: number, channels: number, frames: number): void;
+  deint_i24(src: number, dst: number, channels: number, frames: number): void;
+  reserve(pages: number): number;
 }
 
 /** Byte offset of the sample area in the module's memory (results live at 0..63). */
@@ -32,8 +36,58 @@ try {
 
 export const available = kernel !== undefined && process.env.VIBGATE_NO_WASM === undefined;
 
-const memory = kernel ? new Float64Array(kernel.memory.buffer) : new Float64Array(0);
+let memory = kernel ? new Float64Array(kernel.memory.buffer) : new Float64Array(0);
 const dataIndex = DATA / 8;
+/** The module's memory as Float64Array, re-made after the memory grew. */
+function heap(): Float64Array {
+  if (memory.buffer !== kernel!.memory.buffer) memory = new Float64Array(kernel!.memory.buffer);
+  return memory;
+}
+
+/**
+ * Read buffers and decoded channel arrays inside the module's memory, so that a block is
+ * read, deinterleaved (in WebAssembly) and summed (in place) without a copy. One arena per
+ * thread at a time; `acquireArena` returns undefined when it is taken or unavailable.
+ */
+export interface BlockArena {
+  /** Two read buffers of `frames × blockAlign` bytes (double buffering). */
+  readBuffers: [Buffer, Buffer];
+  /** One array of `frames` samples per channel; valid until `release`. */
+  channels: Float64Array[];
+  /** Deinterleaves read buffer k (its first `frames` sample frames) into `channels`. */
+  decode(k: 0 | 1): void;
+  release(): void;
+}
+
+let arenaBusy = false;
+const ARENA_START = DATA + KERNEL_CHUNK * 8;
+const align16 = (n: number) => Math.ceil(n / 16) * 16;
+
+export function acquireArena(
+  format: string, channelCount: number, frames: number, blockAlign: number,
+): BlockArena | undefined {
+  if (!kernel || !available || arenaBusy) return undefined;
+  const decoder = format === 'float32' ? kernel.deint_f32 : format === 'int16' ? kernel.deint_i16 : format === 'int24' ? kernel.deint_i24 : undefined;
+  if (!decoder) return undefined;
+  const readBytes = align16(frames * blockAlign);
+  const readA = ARENA_START;
+  const readB = readA + readBytes;
+  const out = readB + readBytes;
+  const end = out + channelCount * frames * 8;
+  if (end > 1.5 * 2 ** 30) return undefined; // keep well inside 32-bit addressing
+  kernel.reserve(Math.ceil(end / 65536));
+  const buffer = kernel.memory.buffer;
+  heap();
+  arenaBusy = true;
+  return {
+    readBuffers: [Buffer.from(buffer, readA, frames * blockAlign), Buffer.from(buffer, readB, frames * blockAlign)],
+    channels: Array.from({ length: channelCount }, (_, c) => new Float64Array(buffer, out + c * frames * 8, frames)),
+    decode: (k) => decoder(k === 0 ? readA : readB, out, channelCount, frames),
+    release: () => {
+      arenaBusy = false;
+    },
+  };
+}
 /**
  * Same contract as `sums`/`sumsWithClip` in channel-accumulator.ts: writes
  * [S1, S2, S3, S4, min, max, low count, high count] into `out`, returns the repeat count.
@@ -44,10 +98,17 @@ export function wasmSums(
 ): number {
   const n = to - from;
   const even = n & ~1;
-  memory.set(x.subarray(from, from + even), dataIndex);
-  let reps = kernel!.sums(DATA, even, K, prev, lo, hi);
-  out[0] = memory[0]; out[1] = memory[1]; out[2] = memory[2]; out[3] = memory[3];
-  out[4] = memory[4]; out[5] = memory[5]; out[6] = memory[6]; out[7] = memory[7];
+  const m = heap();
+  let reps: number;
+  if (x.buffer === m.buffer) {
+    // an arena array: the samples are in the module's memory already
+    reps = kernel!.sums(x.byteOffset + from * 8, even, K, prev, lo, hi);
+  } else {
+    m.set(x.subarray(from, from + even), dataIndex);
+    reps = kernel!.sums(DATA, even, K, prev, lo, hi);
+  }
+  out[0] = m[0]; out[1] = m[1]; out[2] = m[2]; out[3] = m[3];
+  out[4] = m[4]; out[5] = m[5]; out[6] = m[6]; out[7] = m[7];
   if (even < n) {
     // the odd last sample, as the JavaScript loop would treat it
     const v = x[to - 1];

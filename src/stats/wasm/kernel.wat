@@ -56,4 +56,73 @@
     (f64.store (i32.const 56) (f64.convert_i64_s (i64.add (i64x2.extract_lane 0 (local.get $ch)) (i64x2.extract_lane 1 (local.get $ch)))))
     (i32.wrap_i64 (i64.add (i64x2.extract_lane 0 (local.get $reps)) (i64x2.extract_lane 1 (local.get $reps))))
   )
+;; Deinterleaving decoders: F frames of C interleaved channels at `src` into C arrays of F
+;; float64 at `dst` (channel c at dst + c·F·8), scaled like the JavaScript decoders in
+;; src/readers/wav.ts (integer PCM times 2^−(bits−1)).
+  (func (export "deint_f32") (param $src i32) (param $dst i32) (param $C i32) (param $F i32)
+    (local $c i32) (local $s i32) (local $d i32) (local $e i32) (local $stride i32)
+    (local.set $stride (i32.shl (local.get $C) (i32.const 2)))
+    (block $cd (loop $cl
+      (br_if $cd (i32.ge_u (local.get $c) (local.get $C)))
+      (local.set $s (i32.add (local.get $src) (i32.shl (local.get $c) (i32.const 2))))
+      (local.set $d (i32.add (local.get $dst) (i32.shl (i32.mul (local.get $c) (local.get $F)) (i32.const 3))))
+      (local.set $e (i32.add (local.get $d) (i32.shl (local.get $F) (i32.const 3))))
+      (block $id (loop $il
+        (br_if $id (i32.ge_u (local.get $d) (local.get $e)))
+        (f64.store (local.get $d) (f64.promote_f32 (f32.load (local.get $s))))
+        (local.set $s (i32.add (local.get $s) (local.get $stride)))
+        (local.set $d (i32.add (local.get $d) (i32.const 8)))
+        (br $il)))
+      (local.set $c (i32.add (local.get $c) (i32.const 1)))
+      (br $cl)))
+  )
+  (func (export "deint_i16") (param $src i32) (param $dst i32) (param $C i32) (param $F i32)
+    (local $c i32) (local $s i32) (local $d i32) (local $e i32) (local $stride i32)
+    (local.set $stride (i32.shl (local.get $C) (i32.const 1)))
+    (block $cd (loop $cl
+      (br_if $cd (i32.ge_u (local.get $c) (local.get $C)))
+      (local.set $s (i32.add (local.get $src) (i32.shl (local.get $c) (i32.const 1))))
+      (local.set $d (i32.add (local.get $dst) (i32.shl (i32.mul (local.get $c) (local.get $F)) (i32.const 3))))
+      (local.set $e (i32.add (local.get $d) (i32.shl (local.get $F) (i32.const 3))))
+      (block $id (loop $il
+        (br_if $id (i32.ge_u (local.get $d) (local.get $e)))
+        (f64.store (local.get $d) (f64.mul (f64.convert_i32_s (i32.load16_s (local.get $s))) (f64.const 0x1p-15)))
+        (local.set $s (i32.add (local.get $s) (local.get $stride)))
+        (local.set $d (i32.add (local.get $d) (i32.const 8)))
+        (br $il)))
+      (local.set $c (i32.add (local.get $c) (i32.const 1)))
+      (br $cl)))
+  )
+  (func (export "deint_i24") (param $src i32) (param $dst i32) (param $C i32) (param $F i32)
+    (local $c i32) (local $s i32) (local $d i32) (local $e i32) (local $stride i32)
+    (local.set $stride (i32.mul (local.get $C) (i32.const 3)))
+    (block $cd (loop $cl
+      (br_if $cd (i32.ge_u (local.get $c) (local.get $C)))
+      (local.set $s (i32.add (local.get $src) (i32.mul (local.get $c) (i32.const 3))))
+      (local.set $d (i32.add (local.get $dst) (i32.shl (i32.mul (local.get $c) (local.get $F)) (i32.const 3))))
+      (local.set $e (i32.add (local.get $d) (i32.shl (local.get $F) (i32.const 3))))
+      (block $id (loop $il
+        (br_if $id (i32.ge_u (local.get $d) (local.get $e)))
+        ;; three bytes little-endian, sign-extended from bit 23: (b0 | b1<<8 | b2<<16) << 8 >> 8
+        (f64.store (local.get $d)
+          (f64.mul
+            (f64.convert_i32_s
+              (i32.shr_s
+                (i32.shl
+                  (i32.or (i32.load16_u (local.get $s)) (i32.shl (i32.load8_u offset=2 (local.get $s)) (i32.const 16)))
+                  (i32.const 8))
+                (i32.const 8)))
+            (f64.const 0x1p-23)))
+        (local.set $s (i32.add (local.get $s) (local.get $stride)))
+        (local.set $d (i32.add (local.get $d) (i32.const 8)))
+        (br $il)))
+      (local.set $c (i32.add (local.get $c) (i32.const 1)))
+      (br $cl)))
+  )
+  ;; grow the memory to at least `pages` 64 KiB pages (done once per thread, before any view)
+  (func (export "reserve") (param $pages i32) (result i32)
+    (if (i32.lt_u (memory.size) (local.get $pages))
+      (then (drop (memory.grow (i32.sub (local.get $pages) (memory.size))))))
+    (memory.size)
+  )
 )
