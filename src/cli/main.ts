@@ -35,6 +35,10 @@ const fraction = (value: string) => {
  */
 export async function main(argv: string[], io: CliIo): Promise<number> {
   let code: number = ExitCode.ok;
+  // `vibgate run ... -- COMMAND ARGS`: everything after the first "--" belongs to the command
+  const dash = argv[0] === 'run' ? argv.indexOf('--') : -1;
+  const ours = dash < 0 ? argv : argv.slice(0, dash);
+  const downstream = dash < 0 ? [] : argv.slice(dash + 1);
   const program = new Command('vibgate')
     .description('Data-quality gate for vibration and acoustics recordings.')
     .version(tool.version, '-V, --version')
@@ -88,11 +92,20 @@ export async function main(argv: string[], io: CliIo): Promise<number> {
     .option('--decimal-comma', 'CSV: numbers use a decimal comma (fields separated by ";" or tabs)')
     .option('--rules-root <dir...>', 'another directory the rule file\'s extends may read from')
     .option('-j, --jobs <n>', 'threads to use (default: the number of cores)', positiveInteger)
+    .option('--sign <key>', 'sign the JSON record with this Ed25519 private key (vibgate keys new)')
+    .option('--ledger <file>', 'append the JSON record to this ledger (JSON Lines, hash-chained)')
+    .option('--shard <i/n>', 'screen job i of n: a deterministic share of the recordings (docs/scale-out.md)')
+    .option('--section <i/n>', 'with --partial: summarise section i of n of every recording')
+    .option('--partial <file>', 'write a partial summary for vibgate merge instead of judging')
     .action(async (paths: string[], o: Record<string, unknown>) => {
-      const { runScreen } = await screenModule();
-      code = await runScreen(
+      const { runScreenShare } = await import('./merge.js');
+      const { parseShard } = await import('./shard.js');
+      code = await runScreenShare(
         paths,
         {
+          partial: o.partial as string | undefined,
+          shard: o.shard === undefined ? undefined : parseShard(o.shard as string, '--shard'),
+          section: o.section === undefined ? undefined : parseShard(o.section as string, '--section'),
           rules: o.rules as string,
           junit: o.junit as string | undefined,
           json: o.json as string | undefined,
@@ -105,9 +118,95 @@ export async function main(argv: string[], io: CliIo): Promise<number> {
           decimalComma: o.decimalComma === true,
           rulesRoots: o.rulesRoot as string[] | undefined,
           jobs: o.jobs as number | undefined,
+          sign: o.sign as string | undefined,
+          ledger: o.ledger as string | undefined,
         },
         io,
       );
+    });
+
+  program
+    .command('merge')
+    .description('Combine partial summaries (screen --partial) exactly and judge the whole campaign once: the same reports and exit codes as one screen run.')
+    .argument('<part...>', 'partial-summary files written by vibgate screen --partial')
+    .option('-r, --rules <file>', 'the rule file, when it is not where the jobs read it (its SHA-256 must match)')
+    .option('--junit <file>', 'write JUnit XML (atomically)')
+    .option('--json <file>', 'write the JSON audit record (atomically)')
+    .option('--html <file>', 'write the HTML report (atomically)')
+    .option('--github', 'GitHub Actions annotations and job summary')
+    .option('-q, --quiet', 'print only failing recordings and the final verdict')
+    .option('--max-warnings <n>', 'fail the gate when there are more than n warnings', nonNegativeInteger)
+    .option('--rules-root <dir...>', "another directory the rule file's extends may read from")
+    .action(async (parts: string[], o: Record<string, unknown>) => {
+      const { runMerge } = await import('./merge.js');
+      code = await runMerge(parts, io, {
+        rules: o.rules as string | undefined,
+        junit: o.junit as string | undefined,
+        json: o.json as string | undefined,
+        html: o.html as string | undefined,
+        github: o.github === true,
+        quiet: o.quiet === true,
+        maxWarnings: o.maxWarnings as number | undefined,
+        rulesRoots: o.rulesRoot as string[] | undefined,
+      });
+    });
+
+  program
+    .command('run')
+    .usage('--rules <file> [options] <recording...> -- <command> [args...]')
+    .description('Screen, then run a command on the recordings that passed (their paths appended, or put where {} stands); its exit code is passed through.')
+    .argument('<recording...>', 'recording files')
+    .requiredOption('-r, --rules <file>', 'rule file (YAML) for this kind of test')
+    .option('--junit <file>', 'write JUnit XML (atomically)')
+    .option('--json <file>', 'write the JSON audit record, with the recordings handed on and held back')
+    .option('--html <file>', 'write the HTML report (atomically)')
+    .option('--github', 'GitHub Actions annotations and job summary')
+    .option('-q, --quiet', 'print only failing recordings and the final verdict')
+    .option('--sidecar <file>', 'channel metadata file for every recording')
+    .option('--sample-rate <hz>', 'sample rate for formats without one', positiveNumber('sample rate'))
+    .option('--decimal-comma', 'CSV: numbers use a decimal comma')
+    .option('--rules-root <dir...>', "another directory the rule file's extends may read from")
+    .option('-j, --jobs <n>', 'threads to use (default: the number of cores)', positiveInteger)
+    .action(async (paths: string[], o: Record<string, unknown>) => {
+      const { runGated } = await import('./run.js');
+      code = await runGated(paths, io, {
+        rules: o.rules as string,
+        junit: o.junit as string | undefined,
+        json: o.json as string | undefined,
+        html: o.html as string | undefined,
+        github: o.github === true,
+        quiet: o.quiet === true,
+        sidecar: o.sidecar as string | undefined,
+        sampleRate: o.sampleRate as number | undefined,
+        decimalComma: o.decimalComma === true,
+        rulesRoots: o.rulesRoot as string[] | undefined,
+        jobs: o.jobs as number | undefined,
+        command: downstream,
+      });
+    });
+
+  program
+    .command('verify')
+    .description('Check a JSON record: its signature, that its recordings and rule files are unchanged, its ledger entry. Exit 0 all hold, 1 something differs, 2 unreadable.')
+    .argument('<record>', 'JSON record written by vibgate screen --json')
+    .option('--key <pub>', 'the trusted public key: the record must be signed with it')
+    .option('--ledger <file>', 'the ledger the record must be in; its chain is checked end to end')
+    .option('--dir <dir>', "directory the screening ran in (the record's relative paths start there)")
+    .option('--json', 'print the findings as JSON')
+    .action(async (record: string, o: { key?: string; ledger?: string; dir?: string; json?: boolean }) => {
+      const { runVerify } = await import('./verify.js');
+      code = await runVerify(record, io, { key: o.key, ledger: o.ledger, dir: o.dir, json: o.json === true });
+    });
+
+  program
+    .command('keys')
+    .description('Signing keys for JSON records.')
+    .command('new')
+    .description('Make an Ed25519 key pair: <out>.key (private, mode 0600) and <out>.pub. Never overwrites.')
+    .requiredOption('--out <name>', 'file name without extension')
+    .action(async (o: { out: string }) => {
+      const { runKeysNew } = await import('./keys.js');
+      code = await runKeysNew(io, { out: o.out });
     });
 
   const rules = program.command('rules').description('Validate rule files and list the checks.');
@@ -130,7 +229,7 @@ export async function main(argv: string[], io: CliIo): Promise<number> {
     });
 
   try {
-    await program.parseAsync(argv, { from: 'user' });
+    await program.parseAsync(ours, { from: 'user' });
     return code;
   } catch (err) {
     if (err instanceof CommanderError) {

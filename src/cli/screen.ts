@@ -19,8 +19,10 @@ import type { ReportDetail } from '../report/detail.js';
 import { appendFile } from 'node:fs/promises';
 import { tool } from '../version.js';
 import { sha256File } from './hash.js';
-import { writeFileAtomic } from './write-atomic.js';
+import { describeWriteError, writeFileAtomic } from './write-atomic.js';
 import { ExitCode, type CliIo } from './io.js';
+import { AuditError } from '../audit/findings.js';
+import { checkSignAndLedger, signAndLedger } from '../audit/sign-and-ledger.js';
 
 export interface ScreenOptions {
   rules: string;
@@ -39,6 +41,10 @@ export interface ScreenOptions {
   rulesRoots?: string[];
   /** Threads to use (default: the number of cores). */
   jobs?: number;
+  /** Sign the JSON record with this Ed25519 private key file (needs `json`). */
+  sign?: string;
+  /** Append the JSON record to this ledger file (needs `json`). */
+  ledger?: string;
   /** For reproducible records in tests: the time written into them. */
   now?: () => Date;
 }
@@ -71,7 +77,10 @@ export async function screenWithDetail(
   } catch (err) {
     if (err instanceof RecordingError) return { verdict: unreadableRecording(path, err.message, sha256), detail: null };
     if (err instanceof RangeError) return { verdict: unreadableRecording(path, `Cannot screen "${path}": ${err.message}`, sha256), detail: null };
-    throw err;
+    // A fault of vibgate's own (a bug) while reading this recording: the recording was not
+    // screened, so it fails the gate, and the other recordings and the reports still go on.
+    const what = err instanceof Error ? `${err.name}: ${err.message}` : String(err);
+    return { verdict: unreadableRecording(path, `Cannot screen "${path}": internal error (${what}); please report it`, sha256), detail: null };
   }
 }
 
@@ -105,6 +114,20 @@ async function reportDetail(recording: Recording, summary: RecordingSummary, ver
 
 /** `vibgate screen`: the gate. Exit 0 pass (warnings allowed), 1 failed or unreadable, 2 usage or rules. */
 export async function runScreen(paths: string[], options: ScreenOptions, io: CliIo): Promise<number> {
+  if ((options.sign !== undefined || options.ledger !== undefined) && options.json === undefined) {
+    io.stderr.write(`vibgate: ${options.sign !== undefined ? '--sign' : '--ledger'} needs --json FILE: it applies to the JSON record\n`);
+    return ExitCode.usage;
+  }
+  try {
+    // a wrong key or a broken ledger is a usage error found before a long run, not after
+    await checkSignAndLedger({ sign: options.sign, ledger: options.ledger, cwd: io.cwd });
+  } catch (err) {
+    if (err instanceof AuditError) {
+      io.stderr.write(`vibgate: ${err.message}\nvibgate: nothing was screened\n`);
+      return ExitCode.usage;
+    }
+    throw err;
+  }
   let rules: ResolvedRules;
   try {
     rules = await loadRules(options.rules, { allowRoots: options.rulesRoots, cwd: io.cwd });
@@ -147,20 +170,35 @@ export async function runScreen(paths: string[], options: ScreenOptions, io: Cli
     }
   }
 
-  const outputs: Array<[string | undefined, () => string]> = [
-    [options.junit, () => junitReport(result)],
-    [options.json, () => jsonRecord(result)],
-    [options.html, () => htmlReport(result, detail)],
+  const outputs: Array<[string | undefined, (file: string) => Promise<unknown>]> = [
+    [options.junit, (file) => writeFileAtomic(file, junitReport(result))],
+    [
+      options.json,
+      // signed and written, then entered in the ledger: the ledger never lists an unwritten record
+      (file) =>
+        signAndLedger(jsonRecord(result), {
+          sign: options.sign,
+          ledger: options.ledger,
+          cwd: io.cwd,
+          write: (text) => writeFileAtomic(file, text),
+          onLedger: (a) => io.stdout.write(`ledger: the record is line ${a.line} of "${options.ledger}" (head sha256 ${a.headSha256})\n`),
+        }),
+    ],
+    [options.html, (file) => writeFileAtomic(file, htmlReport(result, detail))],
   ];
-  for (const [file, render] of outputs) {
+  // Every output is attempted even when one cannot be written (a full disk, a missing
+  // directory): the others still tell the CI server what was screened.
+  let unwritten = 0;
+  for (const [file, write] of outputs) {
     if (!file) continue;
     try {
-      await writeFileAtomic(file, render());
+      await write(file);
     } catch (err) {
-      io.stderr.write(`vibgate: Cannot write "${file}": ${(err as Error).message}\n`);
-      return ExitCode.failed;
+      io.stderr.write(err instanceof AuditError ? `vibgate: ${err.message}\n` : `vibgate: Cannot write "${file}": ${describeWriteError(file, err)}\n`);
+      unwritten += 1;
     }
   }
+  if (unwritten > 0) return ExitCode.failed;
 
   const warnings = recordings.reduce(
     (n, r) => n + r.findings.filter((f) => f.status === 'warn').length + r.channels.reduce((m, c) => m + c.findings.filter((f) => f.status === 'warn').length, 0),
