@@ -24,7 +24,7 @@ import type {
 import { SELECTOR_FIELDS } from './schema.js';
 import { knownSettings, settingFrom } from './settings.js';
 import { isRecord, validateRuleData } from './validate.js';
-import { keyPath, YamlSource, type PositionedProblem, type Segment } from './yaml-source.js';
+import { keyPath, MAX_YAML_DEPTH, YamlSource, type PositionedProblem, type Segment } from './yaml-source.js';
 
 /** A rule file larger than this is not an honest rule file (and parsing it wastes memory). */
 export const MAX_RULE_FILE_BYTES = 256 * 1024;
@@ -85,7 +85,15 @@ const defaultBundledRoot = (): string => fileURLToPath(new URL('../../rules/', i
  */
 export async function loadRules(path: string, options: LoadRulesOptions = {}): Promise<ResolvedRules> {
   const cwd = options.cwd ?? process.cwd();
-  const absolute = resolve(cwd, path);
+  // `--rules bundled:NAME` names one of vibgate's own rule files, as in `extends`
+  const bundledName = path.startsWith(BUNDLED_PREFIX) ? path.slice(BUNDLED_PREFIX.length) : undefined;
+  if (bundledName !== undefined && !/^[a-z0-9][a-z0-9-]*(\.yaml)?$/.test(bundledName)) {
+    throw new RulesError([{ file: path, line: 0, column: 0, path: '', message: 'does not name a bundled rule file (bundled:NAME, for example bundled:random-vibration)' }]);
+  }
+  const absolute =
+    bundledName !== undefined
+      ? join(options.bundledRoot === undefined ? defaultBundledRoot() : resolve(cwd, options.bundledRoot), bundledName.endsWith('.yaml') ? bundledName : `${bundledName}.yaml`)
+      : resolve(cwd, path);
   const bundledRoot = options.bundledRoot === undefined ? defaultBundledRoot() : resolve(cwd, options.bundledRoot);
   const roots = await realRoots([dirname(absolute), bundledRoot, ...(options.allowRoots ?? []).map((r) => resolve(cwd, r))]);
   const loader = new Loader(roots, dirname(path), bundledRoot);
@@ -255,6 +263,14 @@ class Loader {
   /** The file's data, or undefined after recording its YAML problems. */
   private parse(display: string, source: YamlSource): unknown {
     const { doc } = source;
+    if (source.tooDeepAt !== undefined) {
+      this.add(display, source, {
+        offset: source.tooDeepAt,
+        segments: [],
+        message: `YAML: collections nested more than ${MAX_YAML_DEPTH} levels deep; a rule file needs a handful`,
+      });
+      return undefined;
+    }
     if (doc.errors.length > 0) {
       for (const error of doc.errors) {
         const offset = error.pos[0];

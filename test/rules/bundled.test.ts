@@ -31,3 +31,16 @@ describe('extends: bundled:NAME', () => {
     );
   });
 });
+
+describe('--rules bundled:NAME', () => {
+  it('loads a bundled rule file by name, with its bases', async () => {
+    const rules = await loadRules('bundled:shock');
+    expect(rules.name).toBe('shock');
+    expect(rules.files.map((f) => f.path)).toEqual(['bundled:shock', 'bundled:base.yaml']);
+  });
+  it('refuses a name that could climb out of rules/', async () => {
+    await expect(loadRules('bundled:../package.json')).rejects.toThrow(
+      'bundled:../package.json: does not name a bundled rule file (bundled:NAME, for example bundled:random-vibration)',
+    );
+  });
+});
