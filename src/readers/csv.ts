@@ -30,6 +30,11 @@ import type { BlockOptions, ChannelInfo, OpenOptions, ReadMeter, Recording, Samp
 const CHUNK_BYTES = 1024 * 1024;
 /** A longer line means this is not a CSV file of sample rows. */
 const MAX_LINE_CHARS = 4 * 1024 * 1024;
+/**
+ * More columns than this are refused: each channel costs its accumulators some kilobytes,
+ * so a 4 MiB line of commas (two million columns) would exhaust memory. WAV's limit too.
+ */
+const MAX_COLUMNS = 65535;
 /** Rows read when the file is opened, to derive the sample rate from the time column. */
 const RATE_ROWS = 4097;
 /**
@@ -42,6 +47,8 @@ const RATE_ROWS = 4097;
  */
 const INTERVAL_TOLERANCE = 1e-3;
 const DEFAULT_BLOCK_FRAMES = 65536;
+/** Samples (all channels) a block's arrays hold before the first rows arrive. */
+const INITIAL_BLOCK_VALUES = 65536;
 
 const COMMA = 44;
 const SEMICOLON = 59;
@@ -194,8 +201,13 @@ async function* csvBlocks(
     layout.timeColumn >= 0
       ? new TimeChecker(path, layout.columnNames[layout.timeColumn], 1 / sampleRate, timeResolution)
       : undefined;
+  // The block arrays start small and double as rows arrive, so memory follows the rows
+  // actually read: a header of 100 000 columns over one data row must not allocate
+  // 100 000 × blockFrames samples up front.
+  const initialCapacity = Math.max(1, Math.min(frames, Math.floor(INITIAL_BLOCK_VALUES / channelCount)));
+  let capacity = initialCapacity;
   const allocate = (): Float64Array[] =>
-    Array.from({ length: channelCount }, () => new Float64Array(frames));
+    Array.from({ length: channelCount }, () => new Float64Array(capacity));
 
   let arrays = allocate();
   let fill = 0;
@@ -215,6 +227,14 @@ async function* csvBlocks(
       if (timing !== undefined) {
         const time = values[layout.timeColumn] * layout.timeScale;
         timing.check(time, parser.timeUnitExponent, layout.timeScale, cursor.line);
+      }
+      if (fill === capacity) {
+        capacity = Math.min(frames, capacity * 2);
+        arrays = arrays.map((a) => {
+          const grown = new Float64Array(capacity);
+          grown.set(a);
+          return grown;
+        });
       }
       for (let k = 0; k < channelCount; k++) arrays[k][fill] = values[columns[k]];
       fill += 1;
@@ -370,6 +390,12 @@ function readLayout(path: string, text: string, options: OpenOptions): CsvLayout
 
   if (fields.length === 1 && fields[0] === '' && !header.lastQuoted) {
     throw new RecordingError(path, 'line 1 is blank; the first line must be the header row');
+  }
+  if (fields.length > MAX_COLUMNS) {
+    throw new RecordingError(
+      path,
+      `line 1 has ${fields.length} columns; vibgate reads at most ${MAX_COLUMNS} (is it really a CSV file of sample rows?)`,
+    );
   }
   const headerless = fields.every((f) => isNumberText(f, DOT) || isNumberText(f, COMMA));
   const columns = fields.map((f, i) =>

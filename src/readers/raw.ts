@@ -18,6 +18,8 @@ import type { BlockOptions, ChannelInfo, OpenOptions, Recording, SampleBlock, Sa
 /** Read buffer size; one buffer is reused for the whole file. */
 const READ_BYTES = 1024 * 1024;
 const DEFAULT_BLOCK_FRAMES = 65536;
+/** As many channels as a WAV header can declare; each costs its accumulators some kilobytes. */
+const MAX_RAW_CHANNELS = 65535;
 
 interface Encoding {
   bytes: number;
@@ -73,6 +75,12 @@ export async function openRaw(
     );
   }
 
+  if (layout.channels > MAX_RAW_CHANNELS) {
+    throw new RecordingError(
+      path,
+      `its sidecar "${sidecar.path}" says raw.channels is ${layout.channels}; at most ${MAX_RAW_CHANNELS} channels are read`,
+    );
+  }
   const encoding = ENCODINGS[layout.encoding];
   const frameBytes = encoding.bytes * layout.channels;
   let size: number;

@@ -27,6 +27,7 @@ import type { ErrorObject, ValidateFunction } from 'ajv';
 import { isMap, isScalar, isSeq, LineCounter, parseDocument } from 'yaml';
 import type { Node as YamlNode } from 'yaml';
 import { RecordingError } from '../errors.js';
+import { MAX_YAML_DEPTH, tooDeeplyNested } from '../rules/yaml-source.js';
 import type { ChannelInfo, Recording, SampleBlock } from './types.js';
 
 export type RawEncoding = 'float32le' | 'float64le' | 'int16le' | 'int32le';
@@ -351,8 +352,13 @@ interface Problem {
 }
 
 function parseSidecar(path: string, text: string, validate: ValidateFunction): Sidecar {
+  const deep = tooDeeplyNested(text);
+  if (deep !== undefined) {
+    const { line, col } = positionOf(text, deep);
+    throw new RecordingError(path, `${line}:${col} YAML: collections nested more than ${MAX_YAML_DEPTH} levels deep; a sidecar needs three`);
+  }
   const lineCounter = new LineCounter();
-  const doc = parseDocument(text, { lineCounter, prettyErrors: false, uniqueKeys: true });
+  const doc = parseDocument(text, { lineCounter, prettyErrors: false, uniqueKeys: true, logLevel: 'error' });
   const fail = (problems: Problem[]): never => {
     problems.sort((a, b) => a.offset - b.offset);
     const lines = problems.map((p) => {
@@ -455,6 +461,13 @@ function buildSidecar(
   });
   if (problems.length > 0) fail(problems);
   return sidecar;
+}
+
+/** 1-based line and column of an offset in `text`. */
+function positionOf(text: string, offset: number): { line: number; col: number } {
+  const before = text.slice(0, offset);
+  const lastBreak = before.lastIndexOf('\n');
+  return { line: before.split('\n').length, col: offset - lastBreak };
 }
 
 /** Turns one ajv error into a positioned, plain-language problem. */

@@ -3,8 +3,40 @@
  * problem found in the data (by ajv, or by the loader) can be reported as `line:column`
  * of the key path it concerns.
  */
-import { isAlias, isMap, isScalar, isSeq, LineCounter, parseDocument } from 'yaml';
-import type { Document, Node as YamlNode, Pair } from 'yaml';
+import { isAlias, isMap, isScalar, isSeq, LineCounter, Parser, parseDocument } from 'yaml';
+import type { CST, Document, Node as YamlNode, Pair } from 'yaml';
+
+/**
+ * Collections nested deeper than this are refused before the document is composed. The
+ * yaml package composes nodes recursively, so 100 000 `[` (200 KB) would exhaust the call
+ * stack, and an overflow that lands inside V8's regular-expression compiler aborts the
+ * whole process instead of throwing. Honest rule files and sidecars nest 5 levels or so.
+ */
+export const MAX_YAML_DEPTH = 64;
+
+/**
+ * Offset of the first collection nested more than `MAX_YAML_DEPTH` deep in `text`, or
+ * undefined. Walks the yaml package's concrete syntax tree, which its parser builds with
+ * an explicit stack, using a stack of its own: nothing here recurses.
+ */
+export function tooDeeplyNested(text: string, lineCounter?: LineCounter): number | undefined {
+  const stack: Array<{ token: CST.Token | undefined; depth: number }> = [];
+  for (const token of new Parser(lineCounter?.addNewLine).parse(text)) stack.push({ token, depth: 0 });
+  while (stack.length > 0) {
+    const { token, depth } = stack.pop()!;
+    if (token === undefined) continue;
+    if (token.type === 'document') {
+      stack.push({ token: token.value, depth });
+    } else if (token.type === 'block-map' || token.type === 'block-seq' || token.type === 'flow-collection') {
+      if (depth + 1 > MAX_YAML_DEPTH) return token.offset;
+      for (const item of token.items) {
+        if ('key' in item) stack.push({ token: item.key ?? undefined, depth: depth + 1 });
+        stack.push({ token: item.value, depth: depth + 1 });
+      }
+    }
+  }
+  return undefined;
+}
 
 /** One step of a key path: a map key or a list index. */
 export type Segment = string | number;
@@ -19,9 +51,19 @@ export interface PositionedProblem {
 
 export class YamlSource {
   readonly doc: Document.Parsed;
+  /** Offset of a collection nested too deep to compose; the document is then empty. */
+  readonly tooDeepAt: number | undefined;
   private readonly lineCounter: LineCounter;
 
   constructor(text: string) {
+    this.lineCounter = new LineCounter();
+    const deep = tooDeeplyNested(text, this.lineCounter);
+    if (deep !== undefined) {
+      // Not composed at all (see MAX_YAML_DEPTH); the line counter was filled by the check.
+      this.tooDeepAt = deep;
+      this.doc = parseDocument('', { logLevel: 'error' });
+      return;
+    }
     this.lineCounter = new LineCounter();
     // uniqueKeys: a key written twice is an error, not "the last one wins".
     // logLevel 'error': the yaml package must not print warnings from library code.
