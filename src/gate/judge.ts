@@ -94,8 +94,12 @@ export function judgeRecording(input: ReadRecording, rules: ResolvedRules): Reco
   const findings = expectationFindings(input, rules, durationS);
   const judged = channels.filter((c) => c.verdict !== 'skip');
   let verdict = worst([...channels.map((c) => c.verdict).filter((v) => v !== 'skip'), ...findings.map(findingVerdict)], 'skip');
-  // a recording none of whose channels was judged was not screened, whatever else passed
-  if (judged.length === 0) verdict = worst([verdict, 'skip']);
+  // a recording none of whose channels was judged was not screened, whatever else passed;
+  // nor was one with a channel whose checks ran but could none of them judge it (the gate is
+  // never 0 when something could not be checked). A channel the rule file switched every
+  // check off for was left out on purpose and does not count.
+  const unjudged = channels.some((c) => c.findings.length > 0 && c.findings.every((f) => f.status === 'skip'));
+  if (judged.length === 0 || unjudged) verdict = worst([verdict, 'skip']);
   return {
     path: input.path,
     sha256: input.sha256,

@@ -76,6 +76,14 @@ describe('judging a recording', () => {
     expect(v.verdict).toBe('skip');
   });
 
+  it('a channel whose checks ran but could none of them judge it makes the recording skip (the gate fails)', () => {
+    const r = rules({ checks: { kurtosis: { severity: 'error', options: { whole: [2.4, 4], frames: [1.6, 8] } } } });
+    // a constant channel: kurtosis is undefined, so the only check skips
+    const v = judgeRecording(recordingOf([gaussian(30 * fs, 20), new Float64Array(30 * fs).fill(0.5)], [ch(0, 'a'), ch(1, 'b')]), r);
+    expect(v.channels.map((c) => c.verdict)).toEqual(['pass', 'skip']);
+    expect(v.verdict).toBe('skip');
+  });
+
   it('checks the recording expectations: duration, sample rate, channel count and names', () => {
     const r = rules({ expect: { minDurationS: 60, sampleRate: [2048, 51200], channelCount: 3, channelNames: ['a', 'z'], severity: 'error' } });
     const v = judgeRecording(recordingOf([gaussian(30 * fs, 8), gaussian(30 * fs, 9)], [ch(0, 'a'), ch(1, 'b')]), r);
