@@ -85,7 +85,13 @@ export function frameTrends(summary: RecordingSummary): ChannelDetail[] {
 export async function reportGate(
   result: GateResult,
   detail: ReportDetail,
-  options: ReportOptions & { extraRecord?: Record<string, unknown> },
+  options: ReportOptions & {
+    extraRecord?: Record<string, unknown>;
+    /** Writes the JSON record (screen --sign/--ledger sign it first); default: atomically. */
+    writeRecord?: (file: string, text: string) => Promise<unknown>;
+    /** Turns an error thrown while writing into the message shown after "vibgate: ". */
+    describeError?: (file: string, err: unknown) => string | undefined;
+  },
   io: CliIo,
 ): Promise<boolean> {
   let unwritten = 0;
@@ -109,17 +115,20 @@ export async function reportGate(
     if (!options.extraRecord) return text;
     return JSON.stringify({ ...(JSON.parse(text) as Record<string, unknown>), ...options.extraRecord }, null, 2) + '\n';
   };
-  const outputs: Array<[string | undefined, () => string]> = [
-    [options.junit, () => junitReport(result)],
-    [options.json, record],
-    [options.html, () => htmlReport(result, detail)],
+  const writeRecord = options.writeRecord ?? writeFileAtomic;
+  const outputs: Array<[string | undefined, (file: string) => Promise<unknown>]> = [
+    [options.junit, (file) => writeFileAtomic(file, junitReport(result))],
+    [options.json, (file) => writeRecord(file, record())],
+    [options.html, (file) => writeFileAtomic(file, htmlReport(result, detail))],
   ];
-  for (const [file, render] of outputs) {
+  // Every output is attempted even when one cannot be written (a full disk, a missing
+  // directory): the others still tell the CI server what was screened.
+  for (const [file, write] of outputs) {
     if (!file) continue;
     try {
-      await writeFileAtomic(file, render());
+      await write(file);
     } catch (err) {
-      io.stderr.write(`vibgate: Cannot write "${file}": ${describeWriteError(file, err)}\n`);
+      io.stderr.write(`vibgate: ${options.describeError?.(file, err) ?? `Cannot write "${file}": ${describeWriteError(file, err)}`}\n`);
       unwritten += 1;
     }
   }

@@ -1,28 +1,19 @@
 import { openRecording } from '../readers/index.js';
 import type { Recording } from '../readers/types.js';
 import { readWindow } from '../readers/window.js';
-import { frameSeries } from '../stats/channel-stats.js';
 import type { RecordingSummary } from '../stats/summarise.js';
-import type { ChannelDetail } from '../report/detail.js';
+import type { ChannelDetail, ReportDetail } from '../report/detail.js';
 import { summariseRecording } from './parallel.js';
 import { RecordingError } from '../errors.js';
-import { judgeRecording, unreadableRecording, worst } from '../gate/judge.js';
-import type { GateResult, RecordingVerdict } from '../gate/types.js';
-import { formatProblem, loadRules, RulesError } from '../rules/load.js';
+import { judgeRecording, unreadableRecording } from '../gate/judge.js';
+import type { RecordingVerdict } from '../gate/types.js';
 import type { ResolvedRules } from '../rules/types.js';
-import { junitReport } from '../report/junit.js';
-import { jsonRecord } from '../report/json-record.js';
-import { terminalReport } from '../report/terminal.js';
-import { githubAnnotations, markdownSummary } from '../report/github.js';
-import { htmlReport } from '../report/html.js';
-import type { ReportDetail } from '../report/detail.js';
-import { appendFile } from 'node:fs/promises';
-import { tool } from '../version.js';
 import { sha256File } from './hash.js';
-import { describeWriteError, writeFileAtomic } from './write-atomic.js';
+import { writeFileAtomic } from './write-atomic.js';
 import { ExitCode, type CliIo } from './io.js';
 import { AuditError } from '../audit/findings.js';
 import { checkSignAndLedger, signAndLedger } from '../audit/sign-and-ledger.js';
+import { frameTrends, gateExitCode, gateResult, loadRulesReporting, reportGate } from './screen-core.js';
 
 export interface ScreenOptions {
   rules: string;
@@ -90,13 +81,7 @@ const EXCERPT_CONTEXT_S = 0.25;
 
 async function reportDetail(recording: Recording, summary: RecordingSummary, verdict: RecordingVerdict): Promise<ChannelDetail[]> {
   const fs = recording.sampleRate;
-  const details: ChannelDetail[] = summary.channels.map((s) => {
-    const series = (k: Parameters<typeof frameSeries>[1]) => Array.from(frameSeries(s.frames, k, fs).value);
-    return {
-      frames: { timeS: Array.from(frameSeries(s.frames, 'rms', fs).timeS), rms: series('rms'), mean: series('mean'), kurtosis: series('kurtosis'), skewness: series('skewness') },
-      excerpt: null,
-    };
-  });
+  const details: ChannelDetail[] = frameTrends(summary);
   for (const [i, ch] of verdict.channels.entries()) {
     if (ch.verdict !== 'fail' && ch.verdict !== 'warn') continue;
     // the first failing finding that is located in time (warnings if nothing failed)
@@ -128,17 +113,8 @@ export async function runScreen(paths: string[], options: ScreenOptions, io: Cli
     }
     throw err;
   }
-  let rules: ResolvedRules;
-  try {
-    rules = await loadRules(options.rules, { allowRoots: options.rulesRoots, cwd: io.cwd });
-  } catch (err) {
-    if (err instanceof RulesError) {
-      for (const p of err.problems) io.stderr.write(`vibgate: ${formatProblem(p)}\n`);
-      io.stderr.write('vibgate: nothing was screened\n');
-      return ExitCode.usage;
-    }
-    throw err;
-  }
+  const rules = await loadRulesReporting(options.rules, options, io);
+  if (rules === null) return ExitCode.usage;
   const recordings: RecordingVerdict[] = [];
   const detail: ReportDetail = new Map();
   for (const path of paths) {
@@ -146,70 +122,25 @@ export async function runScreen(paths: string[], options: ScreenOptions, io: Cli
     recordings.push(screened.verdict);
     if (screened.detail) detail.set(path, screened.detail);
   }
-  const result: GateResult = {
-    tool,
-    createdAt: (options.now?.() ?? new Date()).toISOString(),
-    rules: { name: rules.name, path: options.rules, sha256: rules.files[0].sha256, files: rules.files },
-    verdict: worst(recordings.map((r) => r.verdict)),
-    recordings,
-  };
-
-  const color = io.stdout.isTTY === true && !io.env.NO_COLOR;
-  io.stdout.write(terminalReport(result, { color, quiet: options.quiet }));
-  if (options.github) {
-    io.stdout.write(githubAnnotations(result));
-    const summaryFile = io.env.GITHUB_STEP_SUMMARY;
-    if (summaryFile) {
-      try {
-        // appended, as GitHub documents: other steps' summaries share the file
-        await appendFile(summaryFile, markdownSummary(result) + '\n');
-      } catch (err) {
-        io.stderr.write(`vibgate: Cannot write the job summary to "${summaryFile}": ${(err as Error).message}\n`);
-        return ExitCode.failed;
-      }
-    }
-  }
-
-  const outputs: Array<[string | undefined, (file: string) => Promise<unknown>]> = [
-    [options.junit, (file) => writeFileAtomic(file, junitReport(result))],
-    [
-      options.json,
+  const result = gateResult(recordings, rules, options.rules, options.now);
+  const written = await reportGate(
+    result,
+    detail,
+    {
+      ...options,
       // signed and written, then entered in the ledger: the ledger never lists an unwritten record
-      (file) =>
-        signAndLedger(jsonRecord(result), {
+      writeRecord: (file, text) =>
+        signAndLedger(text, {
           sign: options.sign,
           ledger: options.ledger,
           cwd: io.cwd,
-          write: (text) => writeFileAtomic(file, text),
+          write: (signed) => writeFileAtomic(file, signed),
           onLedger: (a) => io.stdout.write(`ledger: the record is line ${a.line} of "${options.ledger}" (head sha256 ${a.headSha256})\n`),
         }),
-    ],
-    [options.html, (file) => writeFileAtomic(file, htmlReport(result, detail))],
-  ];
-  // Every output is attempted even when one cannot be written (a full disk, a missing
-  // directory): the others still tell the CI server what was screened.
-  let unwritten = 0;
-  for (const [file, write] of outputs) {
-    if (!file) continue;
-    try {
-      await write(file);
-    } catch (err) {
-      io.stderr.write(err instanceof AuditError ? `vibgate: ${err.message}\n` : `vibgate: Cannot write "${file}": ${describeWriteError(file, err)}\n`);
-      unwritten += 1;
-    }
-  }
-  if (unwritten > 0) return ExitCode.failed;
-
-  const warnings = recordings.reduce(
-    (n, r) => n + r.findings.filter((f) => f.status === 'warn').length + r.channels.reduce((m, c) => m + c.findings.filter((f) => f.status === 'warn').length, 0),
-    0,
+      describeError: (_file, err) => (err instanceof AuditError ? err.message : undefined),
+    },
+    io,
   );
-  if (result.verdict === 'pass' || result.verdict === 'warn') {
-    if (options.maxWarnings !== undefined && warnings > options.maxWarnings) {
-      io.stderr.write(`vibgate: ${warnings} warnings, more than --max-warnings ${options.maxWarnings}: the gate fails\n`);
-      return ExitCode.failed;
-    }
-    return ExitCode.ok;
-  }
-  return ExitCode.failed;
+  if (!written) return ExitCode.failed;
+  return gateExitCode(result, options, io);
 }
