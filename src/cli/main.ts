@@ -29,6 +29,26 @@ const fraction = (value: string) => {
   return n;
 };
 
+/** Options of every command that reads recordings. */
+function readOptions(cmd: Command): Command {
+  return cmd
+    .option('--sidecar <file>', 'channel metadata file for every recording (default: <recording>.channels.yaml when present)')
+    .option('--sample-rate <hz>', 'sample rate for formats without one (CSV without time column, raw)', positiveNumber('sample rate'))
+    .option('--decimal-comma', 'CSV: numbers use a decimal comma (fields separated by ";" or tabs)')
+    .option('-j, --jobs <n>', 'threads to use (default: the number of cores)', positiveInteger);
+}
+
+/** Options of every command that writes the gate's reports. */
+function reportOptions(cmd: Command, json = 'write the JSON audit record (atomically)'): Command {
+  return cmd
+    .option('--junit <file>', 'write JUnit XML for the CI server (atomically)')
+    .option('--json <file>', json)
+    .option('--html <file>', 'write the HTML report for people: one self-contained file (atomically)')
+    .option('--github', 'GitHub Actions: annotations for failing channels, and a job summary to $GITHUB_STEP_SUMMARY')
+    .option('-q, --quiet', 'print only failing recordings and the final verdict')
+    .option('--rules-root <dir...>', "another directory the rule file's extends may read from");
+}
+
 /**
  * The command line. Returns the exit code; never calls process.exit, never throws for bad
  * input (the message goes to io.stderr).
@@ -50,18 +70,16 @@ export async function main(argv: string[], io: CliIo): Promise<number> {
     })
     .showHelpAfterError('(run "vibgate --help" for usage)');
 
-  program
-    .command('inspect')
-    .description('Print per-channel statistics of recordings: whole record and the range over frames.')
-    .argument('<recording...>', 'recording files (WAV/RF64/BW64, CSV/TSV, raw with a sidecar)')
-    .addOption(new Option('-f, --format <format>', 'output for people or tools').choices(['table', 'json', 'csv']).default('table'))
-    .option('--frame-seconds <s>', 'frame length in seconds', positiveNumber('frame length'), 1)
-    .option('--overlap <fraction>', 'fraction of a frame shared with the next (0 ≤ f < 1)', fraction, 0)
-    .option('--sidecar <file>', 'channel metadata file (default: <recording>.channels.yaml when present)')
-    .option('--sample-rate <hz>', 'sample rate for formats without one (CSV without time column, raw)', positiveNumber('sample rate'))
-    .option('--time-column <name>', 'CSV: name of the time column')
-    .option('--decimal-comma', 'CSV: numbers use a decimal comma (fields separated by ";" or tabs)')
-    .option('-j, --jobs <n>', 'threads to use (default: the number of cores)', positiveInteger)
+  readOptions(
+    program
+      .command('inspect')
+      .description('Print per-channel statistics of recordings: whole record and the range over frames.')
+      .argument('<recording...>', 'recording files (WAV/RF64/BW64, CSV/TSV, raw with a sidecar)')
+      .addOption(new Option('-f, --format <format>', 'output for people or tools').choices(['table', 'json', 'csv']).default('table'))
+      .option('--frame-seconds <s>', 'frame length in seconds', positiveNumber('frame length'), 1)
+      .option('--overlap <fraction>', 'fraction of a frame shared with the next (0 ≤ f < 1)', fraction, 0)
+      .option('--time-column <name>', 'CSV: name of the time column'),
+  )
     .action(async (paths: string[], opts: Record<string, unknown>) => {
       const options: InspectOptions = {
         format: opts.format as InspectOptions['format'],
@@ -76,22 +94,15 @@ export async function main(argv: string[], io: CliIo): Promise<number> {
       code = await runInspect(paths, options, io);
     });
 
-  program
-    .command('screen')
-    .description('Judge recordings against a rule file: the gate. Exit 0 pass, 1 failed or unreadable, 2 usage or rule-file error.')
-    .argument('<recording...>', 'recording files (WAV/RF64/BW64, CSV/TSV, raw with a sidecar)')
-    .requiredOption('-r, --rules <file>', 'rule file (YAML) for this kind of test')
-    .option('--junit <file>', 'write JUnit XML for the CI server (atomically)')
-    .option('--json <file>', 'write the JSON audit record (atomically)')
-    .option('--html <file>', 'write the HTML report for people: one self-contained file (atomically)')
-    .option('--github', 'GitHub Actions: annotations for failing channels, and a job summary to $GITHUB_STEP_SUMMARY')
-    .option('-q, --quiet', 'print only failing recordings and the final verdict')
-    .option('--max-warnings <n>', 'fail the gate when there are more than n warnings', nonNegativeInteger)
-    .option('--sidecar <file>', 'channel metadata file for every recording (default: <recording>.channels.yaml when present)')
-    .option('--sample-rate <hz>', 'sample rate for formats without one (CSV without time column, raw)', positiveNumber('sample rate'))
-    .option('--decimal-comma', 'CSV: numbers use a decimal comma (fields separated by ";" or tabs)')
-    .option('--rules-root <dir...>', 'another directory the rule file\'s extends may read from')
-    .option('-j, --jobs <n>', 'threads to use (default: the number of cores)', positiveInteger)
+  readOptions(
+    reportOptions(
+      program
+        .command('screen')
+        .description('Judge recordings against a rule file: the gate. Exit 0 pass, 1 failed or unreadable, 2 usage or rule-file error.')
+        .argument('<recording...>', 'recording files (WAV/RF64/BW64, CSV/TSV, raw with a sidecar)')
+        .requiredOption('-r, --rules <file>', 'rule file (YAML) for this kind of test, or bundled:NAME'),
+    ).option('--max-warnings <n>', 'fail the gate when there are more than n warnings', nonNegativeInteger),
+  )
     .option('--sign <key>', 'sign the JSON record with this Ed25519 private key (vibgate keys new)')
     .option('--ledger <file>', 'append the JSON record to this ledger (JSON Lines, hash-chained)')
     .option('--shard <i/n>', 'screen job i of n: a deterministic share of the recordings (docs/scale-out.md)')
@@ -125,18 +136,14 @@ export async function main(argv: string[], io: CliIo): Promise<number> {
       );
     });
 
-  program
-    .command('merge')
-    .description('Combine partial summaries (screen --partial) exactly and judge the whole campaign once: the same reports and exit codes as one screen run.')
-    .argument('<part...>', 'partial-summary files written by vibgate screen --partial')
-    .option('-r, --rules <file>', 'the rule file, when it is not where the jobs read it (its SHA-256 must match)')
-    .option('--junit <file>', 'write JUnit XML (atomically)')
-    .option('--json <file>', 'write the JSON audit record (atomically)')
-    .option('--html <file>', 'write the HTML report (atomically)')
-    .option('--github', 'GitHub Actions annotations and job summary')
-    .option('-q, --quiet', 'print only failing recordings and the final verdict')
+  reportOptions(
+    program
+      .command('merge')
+      .description('Combine partial summaries (screen --partial) exactly and judge the whole campaign once: the same reports and exit codes as one screen run.')
+      .argument('<part...>', 'partial-summary files written by vibgate screen --partial')
+      .option('-r, --rules <file>', 'the rule file, when it is not where the jobs read it (its SHA-256 must match)'),
+  )
     .option('--max-warnings <n>', 'fail the gate when there are more than n warnings', nonNegativeInteger)
-    .option('--rules-root <dir...>', "another directory the rule file's extends may read from")
     .action(async (parts: string[], o: Record<string, unknown>) => {
       const { runMerge } = await import('./merge.js');
       code = await runMerge(parts, io, {
@@ -151,22 +158,17 @@ export async function main(argv: string[], io: CliIo): Promise<number> {
       });
     });
 
-  program
-    .command('run')
-    .usage('--rules <file> [options] <recording...> -- <command> [args...]')
-    .description('Screen, then run a command on the recordings that passed (their paths appended, or put where {} stands); its exit code is passed through.')
-    .argument('<recording...>', 'recording files')
-    .requiredOption('-r, --rules <file>', 'rule file (YAML) for this kind of test')
-    .option('--junit <file>', 'write JUnit XML (atomically)')
-    .option('--json <file>', 'write the JSON audit record, with the recordings handed on and held back')
-    .option('--html <file>', 'write the HTML report (atomically)')
-    .option('--github', 'GitHub Actions annotations and job summary')
-    .option('-q, --quiet', 'print only failing recordings and the final verdict')
-    .option('--sidecar <file>', 'channel metadata file for every recording')
-    .option('--sample-rate <hz>', 'sample rate for formats without one', positiveNumber('sample rate'))
-    .option('--decimal-comma', 'CSV: numbers use a decimal comma')
-    .option('--rules-root <dir...>', "another directory the rule file's extends may read from")
-    .option('-j, --jobs <n>', 'threads to use (default: the number of cores)', positiveInteger)
+  readOptions(
+    reportOptions(
+      program
+        .command('run')
+        .usage('--rules <file> [options] <recording...> -- <command> [args...]')
+        .description('Screen, then run a command on the recordings that passed (their paths appended, or put where {} stands); its exit code is passed through.')
+        .argument('<recording...>', 'recording files')
+        .requiredOption('-r, --rules <file>', 'rule file (YAML) for this kind of test, or bundled:NAME'),
+      'write the JSON audit record, with the recordings handed on and held back',
+    ),
+  )
     .action(async (paths: string[], o: Record<string, unknown>) => {
       const { runGated } = await import('./run.js');
       code = await runGated(paths, io, {

@@ -44,36 +44,12 @@ const scratch = new Float64Array(8);
 const CHUNK = 2048;
 
 /**
- * The hot loop, as a plain function (V8 optimises it best outside the class): power sums of
- * x − K, extremes, and the count of samples equal to their predecessor. Writes
- * [S1, S2, S3, S4, min, max, 0, 0] into `out`; returns the repeat count.
+ * The hot loop in JavaScript (used where WebAssembly SIMD is not; the kernel in wasm/ has the
+ * same contract), as a plain function, which V8 optimises best outside the class: power
+ * sums of x − K, extremes, the count of samples equal to their predecessor, and the samples
+ * at or beyond the clip levels (±Infinity when unknown). Writes
+ * [S1, S2, S3, S4, min, max, low count, high count] into `out`; returns the repeat count.
  */
-export function sums(x: Float64Array, from: number, to: number, K: number, prev: number, out: Float64Array): number {
-  let reps = 0;
-  let s1 = 0;
-  let s2 = 0;
-  let s3 = 0;
-  let s4 = 0;
-  let mn = Infinity;
-  let mx = -Infinity;
-  for (let i = from; i < to; i++) {
-    const v = x[i];
-    if (v === prev) reps++;
-    prev = v;
-    const d = v - K;
-    const d2 = d * d;
-    s1 += d;
-    s2 += d2;
-    s3 += d2 * d;
-    s4 += d2 * d2;
-    if (v < mn) mn = v;
-    if (v > mx) mx = v;
-  }
-  out[0] = s1; out[1] = s2; out[2] = s3; out[3] = s4; out[4] = mn; out[5] = mx; out[6] = 0; out[7] = 0;
-  return reps;
-}
-
-/** As `sums`, also counting samples at or beyond the clip levels into out[6], out[7]. */
 export function sumsWithClip(x: Float64Array, from: number, to: number, K: number, prev: number, lo: number, hi: number, out: Float64Array): number {
   let reps = 0;
   let s1 = 0;
@@ -225,9 +201,7 @@ export class ChannelAccumulator {
       const b = Math.min(to, a + step);
       reps += wasmAvailable
         ? wasmSums(x, a, b, K, prev, this.clipLow, this.clipHigh, out)
-        : this.hasClip
-          ? sumsWithClip(x, a, b, K, prev, this.clipLow, this.clipHigh, out)
-          : sums(x, a, b, K, prev, out);
+        : sumsWithClip(x, a, b, K, prev, this.clipLow, this.clipHigh, out);
       prev = x[b - 1];
       s1 += out[0]; s2 += out[1]; s3 += out[2]; s4 += out[3];
       if (out[4] < segMin) segMin = out[4];
