@@ -33,7 +33,7 @@ export function makeWav(file, channels, seconds, rate, encoding) {
     let o = 0;
     for (let k = 0; k < m; k++) {
       for (let c = 0; c < channels; c++) {
-        s = (s * 1103515245 + 12345) >>> 0;
+        s = (Math.imul(s, 1103515245) + 12345) >>> 0; // 32-bit LCG (a plain product would lose bits past 2^53 and cycle)
         const e = s / 4294967296 - 0.5;
         const y = a1[c] * y1[c] - 0.990025 * y2[c] + e;
         y2[c] = y1[c];
