@@ -107,7 +107,6 @@ export class ChannelAccumulator {
   private readonly hopSamples: number;
   private readonly clipLow: number;
   private readonly clipHigh: number;
-  private readonly hasClip: boolean;
   private readonly begin: number;
   private next: number;
   private readonly whole: Moments = emptyMoments();
@@ -148,7 +147,6 @@ export class ChannelAccumulator {
     this.hopSamples = geometry.hopSamples;
     this.clipLow = clip.low ?? -Infinity;
     this.clipHigh = clip.high ?? Infinity;
-    this.hasClip = clip.low !== undefined || clip.high !== undefined;
     this.begin = start;
     this.next = start;
     this.longestStart = start;
@@ -247,7 +245,11 @@ export class ChannelAccumulator {
     this.finishSegment(x, from, to, base, to - from, K, s1, s2, s3, s4, segMin, segMax);
   }
 
-  /** Run and extreme bookkeeping over finite samples x[from..to) (the sums are done elsewhere). */
+  /**
+   * Run, extreme and non-finite bookkeeping over x[from..to) (the sums are done elsewhere).
+   * A run of one sample that is neither an extreme nor zero changes nothing: the call to
+   * closeRun is skipped. NaN or ±Inf is counted, ends the run and forms none.
+   */
   private runsOnly(x: Float64Array, from: number, to: number, base: number): void {
     let prev = this.prev;
     let runStart = this.runStart;
@@ -260,8 +262,15 @@ export class ChannelAccumulator {
         runLength++;
         continue;
       }
-      if (runLength > 1 || prev === lowValue || prev === highValue || prev === 0) {
+      if (runLength > 1 || prev === lowValue || prev === highValue || prev === 0 || this.leading < 0) {
         if (runLength > 0) this.closeRun(prev, runStart, runLength);
+      }
+      if (v - v !== 0) {
+        this.nonFinite++;
+        if (this.firstNonFinite < 0) this.firstNonFinite = base + i;
+        prev = NaN;
+        runLength = 0;
+        continue;
       }
       prev = v;
       runStart = base + i;
@@ -280,7 +289,7 @@ export class ChannelAccumulator {
     this.runLength = runLength;
   }
 
-  /** The full loop: runs of any length, non-finite samples. */
+  /** The full path: the first segment, or one with non-finite samples. */
   private slowSegment(x: Float64Array, from: number, to: number, base: number): void {
     if (Number.isNaN(this.shift)) {
       // shift of the first segment: the mean of its first finite samples
@@ -293,14 +302,10 @@ export class ChannelAccumulator {
       if (n > 0) this.shift = sum / n;
     }
     const K = Number.isNaN(this.shift) ? 0 : this.shift;
+    this.runsOnly(x, from, to, base);
+    // the sums over the finite samples only
     const lo = this.clipLow;
     const hi = this.clipHigh;
-    const hasClip = this.hasClip;
-    let prev = this.prev;
-    let runStart = this.runStart;
-    let runLength = this.runLength;
-    let lowValue = this.lowValue;
-    let highValue = this.highValue;
     let n = 0;
     let s1 = 0;
     let s2 = 0;
@@ -308,38 +313,9 @@ export class ChannelAccumulator {
     let s4 = 0;
     let segMin = Infinity;
     let segMax = -Infinity;
-    let cl = 0;
-    let ch = 0;
-    let nonFinite = 0;
     for (let i = from; i < to; i++) {
       const v = x[i];
-      if (v === prev) {
-        runLength++;
-      } else {
-        // A run of one sample that is neither an extreme nor zero changes nothing: skip the call.
-        if (runLength > 1 || prev === lowValue || prev === highValue || prev === 0 || this.leading < 0) {
-          if (runLength > 0) this.closeRun(prev, runStart, runLength);
-        }
-        if (v - v !== 0) {
-          // NaN or ±Inf: counted, ends the run, forms none, never enters the moments
-          nonFinite++;
-          if (this.firstNonFinite < 0) this.firstNonFinite = base + i;
-          prev = NaN;
-          runLength = 0;
-          continue;
-        }
-        prev = v;
-        runStart = base + i;
-        runLength = 1;
-        if (v < lowValue) {
-          lowValue = this.lowValue = v;
-          this.lowCount = 0; this.lowSq = 0; this.lowRepeated = 0; this.lowFirst = runStart;
-        }
-        if (v > highValue) {
-          highValue = this.highValue = v;
-          this.highCount = 0; this.highSq = 0; this.highRepeated = 0; this.highFirst = runStart;
-        }
-      }
+      if (v - v !== 0) continue;
       const d = v - K;
       const d2 = d * d;
       s1 += d;
@@ -349,18 +325,9 @@ export class ChannelAccumulator {
       n++;
       if (v < segMin) segMin = v;
       if (v > segMax) segMax = v;
-      if (hasClip) {
-        if (v <= lo) cl++;
-        else if (v >= hi) ch++;
-      }
+      if (v <= lo) this.countLow++;
+      else if (v >= hi) this.countHigh++;
     }
-    this.prev = prev;
-    this.runStart = runStart;
-    this.runLength = runLength;
-    this.nonFinite += nonFinite;
-    this.countLow += cl;
-    this.countHigh += ch;
-
     this.finishSegment(x, from, to, base, n, K, s1, s2, s3, s4, segMin, segMax);
   }
 
