@@ -49,6 +49,22 @@ function reportOptions(cmd: Command, json = 'write the JSON audit record (atomic
     .option('--rules-root <dir...>', "another directory the rule file's extends may read from");
 }
 
+/** The values of readOptions and reportOptions, as the commands' option objects name them. */
+function readAndReportValues(o: Record<string, unknown>) {
+  return {
+    junit: o.junit as string | undefined,
+    json: o.json as string | undefined,
+    html: o.html as string | undefined,
+    github: o.github === true,
+    quiet: o.quiet === true,
+    rulesRoots: o.rulesRoot as string[] | undefined,
+    sidecar: o.sidecar as string | undefined,
+    sampleRate: o.sampleRate as number | undefined,
+    decimalComma: o.decimalComma === true,
+    jobs: o.jobs as number | undefined,
+  };
+}
+
 /**
  * The command line. Returns the exit code; never calls process.exit, never throws for bad
  * input (the message goes to io.stderr).
@@ -117,18 +133,9 @@ export async function main(argv: string[], io: CliIo): Promise<number> {
           partial: o.partial as string | undefined,
           shard: o.shard === undefined ? undefined : parseShard(o.shard as string, '--shard'),
           section: o.section === undefined ? undefined : parseShard(o.section as string, '--section'),
+          ...readAndReportValues(o),
           rules: o.rules as string,
-          junit: o.junit as string | undefined,
-          json: o.json as string | undefined,
-          html: o.html as string | undefined,
-          github: o.github === true,
-          quiet: o.quiet === true,
           maxWarnings: o.maxWarnings as number | undefined,
-          sidecar: o.sidecar as string | undefined,
-          sampleRate: o.sampleRate as number | undefined,
-          decimalComma: o.decimalComma === true,
-          rulesRoots: o.rulesRoot as string[] | undefined,
-          jobs: o.jobs as number | undefined,
           sign: o.sign as string | undefined,
           ledger: o.ledger as string | undefined,
         },
@@ -172,17 +179,8 @@ export async function main(argv: string[], io: CliIo): Promise<number> {
     .action(async (paths: string[], o: Record<string, unknown>) => {
       const { runGated } = await import('./run.js');
       code = await runGated(paths, io, {
+        ...readAndReportValues(o),
         rules: o.rules as string,
-        junit: o.junit as string | undefined,
-        json: o.json as string | undefined,
-        html: o.html as string | undefined,
-        github: o.github === true,
-        quiet: o.quiet === true,
-        sidecar: o.sidecar as string | undefined,
-        sampleRate: o.sampleRate as number | undefined,
-        decimalComma: o.decimalComma === true,
-        rulesRoots: o.rulesRoot as string[] | undefined,
-        jobs: o.jobs as number | undefined,
         command: downstream,
       });
     });
