@@ -12,6 +12,7 @@ import { crestFactor } from './crest-factor.js';
 import { rmsLevel } from './rms-level.js';
 import { frameRmsSpread } from './frame-rms-spread.js';
 import { stationarity } from './stationarity.js';
+import { groupOutlier } from './group-outlier.js';
 
 /**
  * Every check, in the order findings are reported (universal data faults first, then the
@@ -29,6 +30,7 @@ export const checks: ReadonlyArray<Check<any>> = [
   kurtosis,
   crestFactor,
   rmsLevel,
+  groupOutlier,
   frameRmsSpread,
   stationarity,
 ];
