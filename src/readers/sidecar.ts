@@ -9,6 +9,10 @@
  *   encoding: int16le          # float32le | float64le | int16le | int32le
  *   channels: 8
  *   header-bytes: 0
+ * hdf5:                        # HDF5 files only: where the samples are
+ *   dataset: /run-07/accel     # a 2-D dataset (or group: a group of 1-D datasets, one per channel)
+ *   layout: samples-by-channels
+ *   sample-rate-attribute: fs
  * channels:                    # file order; `index:` (0-based) skips channels
  *   - name: acc-01
  *     unit: g
@@ -32,6 +36,36 @@ import type { ChannelInfo, Recording, SampleBlock } from './types.js';
 
 export type RawEncoding = 'float32le' | 'float64le' | 'int16le' | 'int32le';
 
+/** Which axis of a 2-D HDF5 dataset is time: `[samples, channels]` or `[channels, samples]`. */
+export type Hdf5Layout = 'samples-by-channels' | 'channels-by-samples';
+
+/** Attributes of an HDF5 file that hold metadata, as named in the `hdf5:` section. */
+interface Hdf5Attributes {
+  /** `sample-rate-attribute`: numeric attribute holding the rate in Hz. */
+  sampleRateAttribute?: string;
+  /** `unit-attribute`: text attribute holding units (per member, or a list on a 2-D dataset). */
+  unitAttribute?: string;
+}
+
+/**
+ * `hdf5:` section: where an HDF5 file keeps its samples. Either one 2-D dataset holding
+ * every channel, or a group whose 1-D datasets are one channel each.
+ */
+export type Hdf5Mapping =
+  | (Hdf5Attributes & {
+      /** Path of the 2-D dataset. */
+      dataset: string;
+      layout: Hdf5Layout;
+      /** `channel-names-attribute`: attribute holding one name per channel. */
+      channelNamesAttribute?: string;
+    })
+  | (Hdf5Attributes & {
+      /** Path of the group of 1-D datasets. */
+      group: string;
+      /** Members to read, in this order; default every dataset of the group, by name. */
+      order?: string[];
+    });
+
 export interface Sidecar {
   /** The sidecar file's path, as given. */
   path: string;
@@ -39,6 +73,8 @@ export interface Sidecar {
   sampleRate?: number;
   /** `raw:` section: layout of a raw binary file. */
   raw?: { encoding: RawEncoding; channels: number; headerBytes: number };
+  /** `hdf5:` section: where the samples of an HDF5 file are. */
+  hdf5?: Hdf5Mapping;
   /** `channels:` entries in the order written, each with its resolved 0-based index. */
   channels: SidecarChannel[];
 }
@@ -393,6 +429,15 @@ function parseSidecar(path: string, text: string, validate: ValidateFunction): S
 interface SidecarData {
   'sample-rate'?: number;
   raw?: { encoding: RawEncoding; channels: number; 'header-bytes'?: number };
+  hdf5?: {
+    dataset?: string;
+    group?: string;
+    order?: string[];
+    layout?: Hdf5Layout;
+    'sample-rate-attribute'?: string;
+    'channel-names-attribute'?: string;
+    'unit-attribute'?: string;
+  };
   channels?: Array<{
     index?: number;
     name?: string;
@@ -426,6 +471,10 @@ function buildSidecar(
   const at = (segments: Array<string | number>, text: string): void => {
     problems.push({ offset: nodeOffset(root, segments), text: `${keyPath(segments)}: ${text}` });
   };
+  if (data.hdf5 !== undefined) {
+    const hdf5 = hdf5Mapping(data.hdf5, at);
+    if (hdf5 !== undefined) sidecar.hdf5 = hdf5;
+  }
   const usedIndex = new Map<number, number>();
   const usedName = new Map<string, number>();
   let next = 0;
@@ -461,6 +510,60 @@ function buildSidecar(
   });
   if (problems.length > 0) fail(problems);
   return sidecar;
+}
+
+/**
+ * The `hdf5:` section, checked for what the schema cannot say: exactly one of dataset and
+ * group, the keys that belong to only one of them, a layout for a 2-D dataset. Problems go
+ * to `at`; the mapping is returned only when there are none.
+ */
+function hdf5Mapping(
+  data: NonNullable<SidecarData['hdf5']>,
+  at: (segments: Array<string | number>, text: string) => void,
+): Hdf5Mapping | undefined {
+  let ok = true;
+  const problem = (segments: Array<string | number>, text: string): void => {
+    ok = false;
+    at(['hdf5', ...segments], text);
+  };
+  const { dataset, group, order, layout } = data;
+  if (dataset !== undefined && group !== undefined) {
+    problem(['group'], 'give either dataset (one 2-D dataset) or group (1-D datasets, one per channel), not both');
+  } else if (dataset === undefined && group === undefined) {
+    problem([], 'needs dataset (one 2-D dataset) or group (a group of 1-D datasets, one per channel)');
+  }
+  // With both or neither given, the keys that belong to one of them cannot be judged yet.
+  if (dataset !== undefined && group === undefined) {
+    if (layout === undefined) {
+      problem([], 'needs layout (samples-by-channels or channels-by-samples) to tell which axis of the dataset is time');
+    }
+    if (order !== undefined) problem(['order'], 'applies only to group; the channels of a 2-D dataset are in its order');
+  }
+  if (group !== undefined && dataset === undefined) {
+    if (layout !== undefined) problem(['layout'], 'applies only to dataset; each member of a group is one channel');
+    if (data['channel-names-attribute'] !== undefined) {
+      problem(['channel-names-attribute'], 'applies only to dataset; the channels of a group are named after its members');
+    }
+  }
+  const listed = new Map<string, number>();
+  (order ?? []).forEach((name, i) => {
+    const earlier = listed.get(name);
+    if (earlier !== undefined) problem(['order', i], `"${name}" is already listed as order[${earlier}]`);
+    listed.set(name, i);
+  });
+  if (!ok) return undefined;
+
+  const attributes: Hdf5Attributes = {};
+  if (data['sample-rate-attribute'] !== undefined) attributes.sampleRateAttribute = data['sample-rate-attribute'];
+  if (data['unit-attribute'] !== undefined) attributes.unitAttribute = data['unit-attribute'];
+  if (dataset !== undefined && layout !== undefined) {
+    const mapping: Hdf5Mapping = { dataset, layout, ...attributes };
+    if (data['channel-names-attribute'] !== undefined) mapping.channelNamesAttribute = data['channel-names-attribute'];
+    return mapping;
+  }
+  const mapping: Hdf5Mapping = { group: group!, ...attributes };
+  if (order !== undefined) mapping.order = order;
+  return mapping;
 }
 
 /** 1-based line and column of an offset in `text`. */
@@ -509,8 +612,11 @@ function schemaProblem(root: unknown, error: ErrorObject): Problem {
 }
 
 function allowedKeys(segments: Array<string | number>): string | undefined {
-  if (segments.length === 0) return 'sample-rate, raw, channels';
+  if (segments.length === 0) return 'sample-rate, raw, hdf5, channels';
   if (segments.length === 1 && segments[0] === 'raw') return 'encoding, channels, header-bytes';
+  if (segments.length === 1 && segments[0] === 'hdf5') {
+    return 'dataset, group, order, layout, sample-rate-attribute, channel-names-attribute, unit-attribute';
+  }
   if (segments.length === 2 && segments[0] === 'channels') {
     return 'index, name, unit, sensor, sensitivity, sensitivity-unit, full-scale, scale, group';
   }

@@ -127,8 +127,8 @@ describe('loadSidecar() reads and validates a sidecar file', () => {
   });
 
   it.each([
-    ['an unknown top-level key', 'sample-rate: 1\nrate: 2\n', '2:1 rate: unknown key (known keys: sample-rate, raw, channels)'],
-    ['a __proto__ key', '__proto__: { polluted: true }\n', '1:1 __proto__: unknown key (known keys: sample-rate, raw, channels)'],
+    ['an unknown top-level key', 'sample-rate: 1\nrate: 2\n', '2:1 rate: unknown key (known keys: sample-rate, raw, hdf5, channels)'],
+    ['a __proto__ key', '__proto__: { polluted: true }\n', '1:1 __proto__: unknown key (known keys: sample-rate, raw, hdf5, channels)'],
     ['a raw section without encoding', 'raw:\n  channels: 2\n', '2:3 raw: missing key "encoding"'],
     ['an unknown raw key', 'raw:\n  encoding: int16le\n  channels: 2\n  endian: big\n', '4:3 raw.endian: unknown key (known keys: encoding, channels, header-bytes)'],
     ['a fractional channel count', 'raw:\n  encoding: int16le\n  channels: 2.5\n', '3:13 raw.channels: must be integer'],
