@@ -10,11 +10,19 @@ interface Options {
   'min-peers': number;
 }
 
-/** What each statistic is compared on: levels on a log scale (they differ by factors from point to point). */
-const measures: Record<Statistic, { label: string; value: (s: ChannelStats) => number; log: boolean }> = {
-  rms: { label: 'RMS', value: (s) => s.rms, log: true },
-  'crest-factor': { label: 'crest factor', value: (s) => s.crestFactor, log: false },
-  kurtosis: { label: 'kurtosis', value: (s) => s.kurtosis, log: false },
+/**
+ * What each statistic is compared on: levels on a log scale (they differ by factors from
+ * point to point). `floor` is the smallest spread (σ-equivalent) the yardstick is allowed:
+ * channels of one group can agree more closely than their honest differences (six
+ * channels of one shaker run may share a kurtosis to ±0.02), and a yardstick that narrow
+ * would call sampling scatter an outlier. With the default limit of 5 a channel must then
+ * lie at least 10 times from the median RMS, or 1.5 from the median crest factor
+ * or kurtosis (common practice, no source).
+ */
+const measures: Record<Statistic, { label: string; value: (s: ChannelStats) => number; log: boolean; floor: number }> = {
+  rms: { label: 'RMS', value: (s) => s.rms, log: true, floor: 0.2 },
+  'crest-factor': { label: 'crest factor', value: (s) => s.crestFactor, log: false, floor: 0.3 },
+  kurtosis: { label: 'kurtosis', value: (s) => s.kurtosis, log: false, floor: 0.3 },
 };
 
 const median = (v: number[]): number => {
@@ -28,14 +36,16 @@ const median = (v: number[]): number => {
  * Handle Outliers", ASQC Basic References 16): M = 0.6745 (x − median) / MAD, where 0.6745
  * is the normal quartile that makes the MAD consistent with σ. When more than half the
  * values are equal (MAD = 0) they use the mean absolute deviation instead: M = (x − median)
- * / (1.253314 · MeanAD), 1.253314 = √(π/2). Both from memory of that booklet.
+ * / (1.253314 · MeanAD), 1.253314 = √(π/2). Both from memory of that booklet. `floor`
+ * bounds the spread (σ-equivalent) from below.
  */
-export function modifiedZ(x: number, values: number[]): number {
+export function modifiedZ(x: number, values: number[], floor = 0): number {
   const m = median(values);
   const mad = median(values.map((v) => Math.abs(v - m)));
-  if (mad > 0) return (0.6745 * (x - m)) / mad;
   const meanAd = values.reduce((a, v) => a + Math.abs(v - m), 0) / values.length;
-  if (meanAd > 0) return (x - m) / (1.253314 * meanAd);
+  // the σ-equivalent spread, never below `floor`
+  const spread = Math.max(floor, mad > 0 ? mad / 0.6745 : 1.253314 * meanAd);
+  if (spread > 0) return (x - m) / spread;
   return x === m ? 0 : Infinity * Math.sign(x - m);
 }
 
@@ -73,7 +83,7 @@ export const groupOutlier: Check<Options> = {
       const values = ctx.peers.map((p) => f(p.stats)).filter(Number.isFinite);
       const x = f(ctx.stats);
       if (values.length < o['min-peers'] || !Number.isFinite(x)) continue;
-      const z = modifiedZ(x, values);
+      const z = modifiedZ(x, values, m.floor);
       if (worst === null || Math.abs(z) > Math.abs(worst.z)) {
         const mid = median(values);
         worst = { stat, z, x: m.value(ctx.stats), median: m.log ? 10 ** mid : mid, n: values.length };

@@ -13,6 +13,9 @@ import { rmsLevel } from './rms-level.js';
 import { frameRmsSpread } from './frame-rms-spread.js';
 import { stationarity } from './stationarity.js';
 import { groupOutlier } from './group-outlier.js';
+import { duplicateChannel } from './duplicate-channel.js';
+import { mainsHum } from './mains-hum.js';
+import { rangeUtilisation } from './range-utilisation.js';
 
 /**
  * Every check, in the order findings are reported (universal data faults first, then the
@@ -22,13 +25,16 @@ export const checks: ReadonlyArray<Check<any>> = [
   nonFinite,
   flatChannel,
   deadChannel,
+  duplicateChannel,
   dropout,
   clipping,
+  rangeUtilisation,
   meanOffset,
   symmetry,
   skewness,
   kurtosis,
   crestFactor,
+  mainsHum,
   rmsLevel,
   groupOutlier,
   frameRmsSpread,

@@ -1,6 +1,10 @@
 import type { ChannelInfo } from '../readers/types.js';
 import type { ChannelStats } from '../stats/channel-stats.js';
 import type { ChannelSummary } from '../stats/channel-accumulator.js';
+import type { SegmentNeeds } from '../stats/segment-analyses.js';
+import type { CorrelationShape } from '../stats/autocorrelation.js';
+import type { LineLevel } from '../stats/mains-lines.js';
+import type { DistinctLevels } from '../stats/distinct-levels.js';
 
 /** How a failed limit counts: an error fails the gate, a warning is reported only. */
 export type Severity = 'error' | 'warning';
@@ -43,6 +47,23 @@ export interface ChannelContext {
    * (the sidecar's `group`, else those with the same unit), this channel included.
    */
   peers: ReadonlyArray<{ channel: ChannelInfo; stats: ChannelStats }>;
+  /** What the sampled segments showed of this channel, when a check asked for them. */
+  segments?: ChannelSegments;
+}
+
+/** A channel's share of the segment analyses (segment-analyses.ts), derived for the checks. */
+export interface ChannelSegments {
+  /** M, samples per segment, and the segments used. */
+  segmentSamples: number;
+  used: number;
+  /** Autocorrelation and its sums (Gaussian bands), when asked for. */
+  correlation: CorrelationShape | null;
+  /** Mains lines by fundamental, when asked for. */
+  lines: Array<{ fundamentalHz: number; levels: LineLevel[]; broadbandRms: number }>;
+  /** Distinct sample values in the segments, when asked for. */
+  levels: DistinctLevels | null;
+  /** Other channels whose samples correlate with this one's by |r| ≥ 0.9, when asked for. */
+  correlated: Array<{ channel: ChannelInfo; r: number; identical: boolean }> | null;
 }
 
 /** A check's verdict before severity is applied: `ok` null means it could not be judged. */
@@ -73,5 +94,11 @@ export interface Check<O extends object = Record<string, unknown>> {
   defaults: O;
   /** Severity when the rule file does not say. */
   defaultSeverity: Severity;
+  /**
+   * What the check needs computed on sampled segments during the streaming pass (the
+   * autocorrelation, mains lines, correlation between channels, distinct levels), for these
+   * options; absent: nothing beyond the whole-record and frame sums.
+   */
+  needs?(options: O): SegmentNeeds;
   evaluate(context: ChannelContext, options: O): CheckOutcome;
 }

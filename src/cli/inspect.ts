@@ -11,6 +11,7 @@ import { ExitCode, type CliIo } from './io.js';
 export interface InspectOptions extends FrameOptions {
   format: 'table' | 'json' | 'csv';
   sidecar?: string;
+  channelTable?: string;
   sampleRate?: number;
   timeColumn?: string;
   decimalComma?: boolean;
@@ -47,6 +48,7 @@ export async function inspectRecording(
 ): Promise<{ recording: Recording; summary: RecordingSummary; result: InspectedRecording }> {
   const open = {
     sidecar: options.sidecar,
+    channelTable: options.channelTable,
     sampleRate: options.sampleRate,
     timeColumn: options.timeColumn,
     decimalComma: options.decimalComma,

@@ -33,6 +33,7 @@ const fraction = (value: string) => {
 function readOptions(cmd: Command): Command {
   return cmd
     .option('--sidecar <file>', 'channel metadata file for every recording (default: <recording>.channels.yaml when present)')
+    .option('--channel-table <file>', "campaign channel table (CSV): its rows for a recording name its channels, units and ranges when it has no sidecar of its own")
     .option('--sample-rate <hz>', 'sample rate for formats without one (CSV without time column, raw)', positiveNumber('sample rate'))
     .option('--decimal-comma', 'CSV: numbers use a decimal comma (fields separated by ";" or tabs)')
     .option('-j, --jobs <n>', 'threads to use (default: the number of cores)', positiveInteger);
@@ -59,6 +60,7 @@ function readAndReportValues(o: Record<string, unknown>) {
     quiet: o.quiet === true,
     rulesRoots: o.rulesRoot as string[] | undefined,
     sidecar: o.sidecar as string | undefined,
+    channelTable: o.channelTable as string | undefined,
     sampleRate: o.sampleRate as number | undefined,
     decimalComma: o.decimalComma === true,
     jobs: o.jobs as number | undefined,
@@ -90,7 +92,7 @@ export async function main(argv: string[], io: CliIo): Promise<number> {
     program
       .command('inspect')
       .description('Print per-channel statistics of recordings: whole record and the range over frames.')
-      .argument('<recording...>', 'recording files (WAV/RF64/BW64, CSV/TSV, raw with a sidecar)')
+      .argument('<recording...>', 'recording files (WAV/RF64/BW64, UFF 58, HDF5, CSV/TSV, raw; vibgate formats lists them)')
       .addOption(new Option('-f, --format <format>', 'output for people or tools').choices(['table', 'json', 'csv']).default('table'))
       .option('--frame-seconds <s>', 'frame length in seconds', positiveNumber('frame length'), 1)
       .option('--overlap <fraction>', 'fraction of a frame shared with the next (0 ≤ f < 1)', fraction, 0)
@@ -102,6 +104,7 @@ export async function main(argv: string[], io: CliIo): Promise<number> {
         frameSeconds: opts.frameSeconds as number,
         overlap: opts.overlap as number,
         sidecar: opts.sidecar as string | undefined,
+        channelTable: opts.channelTable as string | undefined,
         sampleRate: opts.sampleRate as number | undefined,
         timeColumn: opts.timeColumn as string | undefined,
         decimalComma: opts.decimalComma === true,
@@ -115,7 +118,7 @@ export async function main(argv: string[], io: CliIo): Promise<number> {
       program
         .command('screen')
         .description('Judge recordings against a rule file: the gate. Exit 0 pass, 1 failed or unreadable, 2 usage or rule-file error.')
-        .argument('<recording...>', 'recording files (WAV/RF64/BW64, CSV/TSV, raw with a sidecar)')
+        .argument('<recording...>', 'recording files (WAV/RF64/BW64, UFF 58, HDF5, CSV/TSV, raw; vibgate formats lists them)')
         .requiredOption('-r, --rules <file>', 'rule file (YAML) for this kind of test, or bundled:NAME'),
     ).option('--max-warnings <n>', 'fail the gate when there are more than n warnings', nonNegativeInteger),
   )
@@ -207,6 +210,17 @@ export async function main(argv: string[], io: CliIo): Promise<number> {
     .action(async (o: { out: string }) => {
       const { runKeysNew } = await import('./keys.js');
       code = await runKeysNew(io, { out: o.out });
+    });
+
+  program
+    .command('formats')
+    .description('List the recording formats vibgate reads, their extensions and how each is recognised.')
+    .action(async () => {
+      const { formats } = await import('../readers/detect.js');
+      const rows = formats.map((f) => [f.name, f.extensions.join(' ') || '(any)', f.recognisedBy, f.description]);
+      const width = (k: number) => Math.max(...rows.map((r) => r[k].length));
+      for (const r of rows) io.stdout.write(`${r[0].padEnd(width(0))}  ${r[1].padEnd(width(1))}  ${r[3]}\n${' '.repeat(width(0) + width(1) + 4)}recognised by ${r[2]}\n`);
+      io.stdout.write('Content decides over the extension; a sidecar <recording>.channels.yaml adds names, units and scaling to any format.\n');
     });
 
   const rules = program.command('rules').description('Validate rule files and list the checks.');

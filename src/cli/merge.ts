@@ -36,17 +36,16 @@ import { tool } from '../version.js';
 import { sha256File } from './hash.js';
 import { ExitCode, type CliIo } from './io.js';
 import { UsageError } from '../errors.js';
-import { summariseRecording, summariseSection } from './parallel.js';
+import { SEEKABLE, sectionGrid, summariseRecording, summariseSection } from './parallel.js';
+import { segmentNeedsFor } from '../gate/needs.js';
+import { sectionBounds } from '../stats/segments.js';
 import { runScreen, type ScreenOptions } from './screen.js';
 import { frameTrends, gateExitCode, gateResult, loadRulesReporting, reportGate, type ReportOptions } from './screen-core.js';
 import { selectionOf, selectShard } from './shard.js';
 import { describeWriteError, writeFileAtomic } from './write-atomic.js';
 
-/**
- * Formats whose readers start at any sample frame (as in parallel.ts). Others (CSV) are
- * summarised whole by the job of section 1 and left out by the other section jobs.
- */
-const SEEKABLE = new Set(['wav', 'rf64', 'bw64', 'raw']);
+// Formats whose readers start at any sample frame (SEEKABLE) are cut into sections; others
+// (CSV, UFF) are summarised whole by the job of section 1 and left out by the other jobs.
 
 /** Writes a partial-summary file atomically. */
 export async function writePartial(file: string, partial: PartialFile): Promise<void> {
@@ -77,7 +76,7 @@ export async function readPartial(file: string): Promise<PartialFile> {
 export async function screenSection(
   path: string,
   rules: ResolvedRules,
-  options: Pick<ScreenOptions, 'sidecar' | 'sampleRate' | 'decimalComma' | 'jobs'>,
+  options: Pick<ScreenOptions, 'sidecar' | 'channelTable' | 'sampleRate' | 'decimalComma' | 'jobs'>,
   section: Share,
 ): Promise<PartialPart | null> {
   let sha256: string | null = null;
@@ -86,7 +85,7 @@ export async function screenSection(
   };
   const failed = (error: string): PartialPart => ({ order: 0, recording: { ...recording, sha256 }, section: null, error, summary: null });
   try {
-    const open = { sidecar: options.sidecar, sampleRate: options.sampleRate, decimalComma: options.decimalComma };
+    const open = { sidecar: options.sidecar, channelTable: options.channelTable, sampleRate: options.sampleRate, decimalComma: options.decimalComma };
     const rec = await openRecording(path, open);
     const total = rec.sampleCount;
     const splittable = total !== undefined && SEEKABLE.has(rec.format);
@@ -97,14 +96,16 @@ export async function screenSection(
     let startFrame = 0;
     let endFrame: number;
     let share: Share = section;
+    const segments = segmentNeedsFor(rules, rec.channels);
     if (section.count === 1 || !splittable) {
-      summary = await summariseRecording(rec, open, rules.analysis, { jobs: options.jobs });
+      summary = await summariseRecording(rec, open, rules.analysis, { jobs: options.jobs, segments });
       endFrame = summary.samples;
       share = { index: 1, count: 1 };
     } else {
-      startFrame = Math.floor(((section.index - 1) * total) / section.count);
-      endFrame = Math.floor((section.index * total) / section.count);
-      summary = await summariseSection({ path, open, frames: rules.analysis, startFrame, endFrame }, rec);
+      const bounds = sectionBounds(total, section.count, sectionGrid(rec, segments));
+      startFrame = bounds[section.index - 1];
+      endFrame = bounds[section.index];
+      summary = await summariseSection({ path, open, frames: rules.analysis, startFrame, endFrame, segments }, rec);
     }
     sha256 = await hashing;
     return {

@@ -6,6 +6,8 @@ import { openRecording } from '../readers/index.js';
 import type { OpenOptions, Recording } from '../readers/types.js';
 import { RecordingError } from '../errors.js';
 import { mergeRecordingSummaries, summariseBlocks, type FrameOptions, type RecordingSummary } from '../stats/summarise.js';
+import { needsNothing, type SegmentNeeds } from '../stats/segment-analyses.js';
+import { sectionBounds, segmentPlan } from '../stats/segments.js';
 
 /** One section of a recording for one worker. */
 export interface SectionJob {
@@ -14,10 +16,12 @@ export interface SectionJob {
   frames: FrameOptions;
   startFrame: number;
   endFrame: number;
+  /** Analyses on sampled segments the checks need. */
+  segments?: SegmentNeeds;
 }
 
 /** Formats whose readers can start at any sample frame. */
-const SEEKABLE = new Set(['wav', 'rf64', 'bw64', 'raw']);
+export const SEEKABLE: ReadonlySet<string> = new Set(['wav', 'rf64', 'bw64', 'raw', 'hdf5']);
 /** Below this many samples (all channels) a recording is not worth splitting. */
 const MIN_SPLIT_SAMPLES = 4_000_000;
 /**
@@ -34,7 +38,7 @@ export const defaultJobs = (): number => Math.max(1, availableParallelism());
 export async function summariseSection(job: SectionJob, recording?: Recording): Promise<RecordingSummary> {
   const rec = recording ?? (await openRecording(job.path, job.open));
   const blocks = rec.blocks({ startFrame: job.startFrame, endFrame: job.endFrame, blockFrames: blockFramesFor(rec.channels.length), reuse: true });
-  return summariseBlocks(blocks, rec, { ...job.frames, start: job.startFrame });
+  return summariseBlocks(blocks, rec, { ...job.frames, start: job.startFrame, segments: job.segments });
 }
 
 function workerUrl(): URL {
@@ -75,18 +79,26 @@ export async function summariseRecording(
   recording: Recording,
   open: Omit<OpenOptions, 'meter'>,
   frames: FrameOptions,
-  options: { jobs?: number; onProgress?: (read: number, total: number) => void } = {},
+  options: { jobs?: number; onProgress?: (read: number, total: number) => void; segments?: SegmentNeeds } = {},
 ): Promise<RecordingSummary> {
   const jobs = Math.max(1, Math.floor(options.jobs ?? defaultJobs()));
   const total = recording.sampleCount;
   const split =
     jobs > 1 && total !== undefined && SEEKABLE.has(recording.format) && total * recording.channels.length >= MIN_SPLIT_SAMPLES;
   if (!split) {
-    return summariseBlocks(recording.blocks({ blockFrames: blockFramesFor(recording.channels.length), onProgress: options.onProgress, reuse: true }), recording, frames);
+    return summariseBlocks(recording.blocks({ blockFrames: blockFramesFor(recording.channels.length), onProgress: options.onProgress, reuse: true }), recording, { ...frames, segments: options.segments });
   }
-  const bounds = Array.from({ length: jobs + 1 }, (_, k) => Math.floor((k * total!) / jobs));
-  const sections = bounds.slice(0, -1).map((startFrame, k) => ({ path: recording.path, open, frames, startFrame, endFrame: bounds[k + 1] }));
+  const bounds = sectionBounds(total!, jobs, sectionGrid(recording, options.segments));
+  const sections = bounds.slice(0, -1).map((startFrame, k) => ({ path: recording.path, open, frames, startFrame, endFrame: bounds[k + 1], segments: options.segments }));
   const [first, ...rest] = sections;
   const results = await Promise.all([summariseSection(first, recording), ...rest.map(runWorker)]);
   return results.reduce((a, b) => mergeRecordingSummaries(a, b));
+}
+
+/**
+ * Section bounds must fall on multiples of this many sample frames: the segment stride when
+ * segment analyses run (so that no segment straddles two sections), else any frame.
+ */
+export function sectionGrid(recording: Pick<Recording, 'sampleRate' | 'sampleCount'>, segments: SegmentNeeds | undefined): number {
+  return needsNothing(segments) ? 1 : segmentPlan(recording.sampleRate, recording.sampleCount).strideSamples;
 }

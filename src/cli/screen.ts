@@ -4,6 +4,7 @@ import { readWindow } from '../readers/window.js';
 import type { RecordingSummary } from '../stats/summarise.js';
 import type { ChannelDetail, ReportDetail } from '../report/detail.js';
 import { summariseRecording } from './parallel.js';
+import { segmentNeedsFor } from '../gate/needs.js';
 import { RecordingError } from '../errors.js';
 import { judgeRecording, unreadableRecording } from '../gate/judge.js';
 import type { RecordingVerdict } from '../gate/types.js';
@@ -26,6 +27,8 @@ export interface ScreenOptions {
   quiet?: boolean;
   maxWarnings?: number;
   sidecar?: string;
+  /** Campaign channel table file (CSV) for recordings without a sidecar. */
+  channelTable?: string;
   sampleRate?: number;
   decimalComma?: boolean;
   /** Directories `extends` may read from besides the rule file's own tree and rules/. */
@@ -54,11 +57,12 @@ export async function screenWithDetail(
 ): Promise<{ verdict: RecordingVerdict; detail: ChannelDetail[] | null }> {
   let sha256: string | null = null;
   try {
-    const open = { sidecar: options.sidecar, sampleRate: options.sampleRate, decimalComma: options.decimalComma };
+    const open = { sidecar: options.sidecar, channelTable: options.channelTable, sampleRate: options.sampleRate, decimalComma: options.decimalComma };
     const recording = await openRecording(path, open);
     // the hash is read alongside the statistics pass (from the page cache), not after it
     const hashing = sha256File(path).catch(() => null);
-    const summary = await summariseRecording(recording, open, rules.analysis, { jobs: options.jobs });
+    const segments = segmentNeedsFor(rules, recording.channels);
+    const summary = await summariseRecording(recording, open, rules.analysis, { jobs: options.jobs, segments });
     sha256 = await hashing;
     const verdict = judgeRecording(
       { path, sha256, format: recording.format, sampleRate: recording.sampleRate, channels: recording.channels, notes: recording.notes, summary },

@@ -2,10 +2,15 @@ import type { ChannelInfo } from '../readers/types.js';
 import type { RecordingSummary } from '../stats/summarise.js';
 import { channelStats, type ChannelStats } from '../stats/channel-stats.js';
 import { getCheck } from '../checks/registry.js';
-import type { ChannelContext, Finding, FindingStatus, Severity } from '../checks/types.js';
+import type { ChannelContext, ChannelSegments, Finding, FindingStatus, Severity } from '../checks/types.js';
+import type { SegmentSummary } from '../stats/segment-analyses.js';
+import { correlationShape } from '../stats/autocorrelation.js';
+import { correlatedPairs } from '../stats/cross-correlation.js';
+import { broadbandRms, lineLevels } from '../stats/mains-lines.js';
 import { checksForChannel } from '../rules/select.js';
 import type { ResolvedRules } from '../rules/types.js';
-import type { ChannelVerdict, RecordingVerdict, Verdict } from './types.js';
+import type { ChannelContent, ChannelVerdict, RecordingVerdict, Verdict } from './types.js';
+import { distinctLevelCount, smallestLevelStep } from '../stats/distinct-levels.js';
 
 /** What the gate needs of one recording that was read. */
 export interface ReadRecording {
@@ -56,6 +61,7 @@ export function judgeRecording(input: ReadRecording, rules: ResolvedRules): Reco
   const fs = input.sampleRate;
   const durationS = input.summary.samples / fs;
   const stats = input.summary.channels.map((s) => channelStats(s, { sampleRate: fs }));
+  const segmentViews = input.summary.segments ? channelSegments(input.summary.segments, input.channels) : null;
   const channels: ChannelVerdict[] = input.channels.map((channel, i) => {
     const context: ChannelContext = {
       recording: { path: input.path, sampleRate: fs, durationS },
@@ -64,6 +70,7 @@ export function judgeRecording(input: ReadRecording, rules: ResolvedRules): Reco
       summary: input.summary.channels[i],
       peers: peersOf(input.channels, stats, i),
     };
+    if (segmentViews) context.segments = segmentViews[i];
     const findings: Finding[] = [];
     for (const [id, setting] of Object.entries(checksForChannel(rules, channel))) {
       const check = getCheck(id);
@@ -89,6 +96,7 @@ export function judgeRecording(input: ReadRecording, rules: ResolvedRules): Reco
       verdict: channelVerdict(findings),
       stats: stats[i],
       findings,
+      ...(segmentViews ? { content: channelContent(segmentViews[i], input.summary.geometry.frameSamples) } : {}),
     };
   });
   const findings = expectationFindings(input, rules, durationS);
@@ -112,6 +120,47 @@ export function judgeRecording(input: ReadRecording, rules: ResolvedRules): Reco
     findings,
     channels,
     notes: input.notes,
+  };
+}
+
+/** Each channel's view of the segment analyses, derived once for all its checks. */
+export function channelSegments(s: SegmentSummary, channels: ChannelInfo[]): ChannelSegments[] {
+  const correlated: Array<ChannelSegments['correlated']> = channels.map(() => (s.cross ? [] : null));
+  if (s.cross) {
+    for (const p of correlatedPairs(s.cross, 0.9)) {
+      correlated[p.a]!.push({ channel: channels[p.b], r: p.r, identical: p.identical });
+      correlated[p.b]!.push({ channel: channels[p.a], r: p.r, identical: p.identical });
+    }
+  }
+  return channels.map((_, c) => ({
+    segmentSamples: s.plan.segmentSamples,
+    used: s.used,
+    correlation: s.autocorrelation ? correlationShape(s.autocorrelation[c]) : null,
+    lines: s.lines.map((l) => ({ fundamentalHz: l.fundamentalHz, levels: lineLevels(l.channels[c]), broadbandRms: broadbandRms(l.channels[c]) })),
+    levels: s.levels ? s.levels[c] : null,
+    correlated: correlated[c],
+  }));
+}
+
+const finiteOrNull = (v: number) => (Number.isFinite(v) ? v : null);
+
+/** The JSON record's view of a channel's segment analyses. */
+function channelContent(s: ChannelSegments, frameSamples: number): ChannelContent {
+  const c = s.correlation;
+  const levels = s.levels ? distinctLevelCount(s.levels) : null;
+  return {
+    segmentSamples: s.segmentSamples,
+    segmentsUsed: s.used,
+    correlation: c && Number.isFinite(c.sumRho4)
+      ? { sumRho3: c.sumRho3, sumRho4: c.sumRho4, correlationSamples: c.correlationSamples, settled: c.settled, effectiveSamplesPerFrame: finiteOrNull(frameSamples / c.sumRho4) }
+      : null,
+    mains: s.lines.map((l) => ({
+      fundamentalHz: l.fundamentalHz,
+      broadbandRms: l.broadbandRms,
+      lines: l.levels.filter((v) => Number.isFinite(v.rms)).map((v) => ({ hz: v.hz, rms: v.rms, prominenceDb: v.prominenceDb })),
+    })),
+    levels: s.levels && levels ? { count: levels.count, exact: levels.exact, smallestStep: finiteOrNull(smallestLevelStep(s.levels)) } : null,
+    correlatedWith: s.correlated ? s.correlated.map((p) => ({ name: p.channel.name, r: p.r, identical: p.identical })) : null,
   };
 }
 

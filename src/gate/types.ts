@@ -13,6 +13,32 @@ export interface ChannelVerdict {
   verdict: Verdict;
   stats: ChannelStats;
   findings: Finding[];
+  /** What the sampled segments showed, when a check asked for segment analyses. */
+  content?: ChannelContent;
+}
+
+/** The record's view of a channel's segment analyses (see ChannelSegments in checks/types.ts). */
+export interface ChannelContent {
+  /** Samples per segment and the segments used. */
+  segmentSamples: number;
+  segmentsUsed: number;
+  /** Autocorrelation sums that set the scatter of skewness and kurtosis (Lomnicki 1961). */
+  correlation: {
+    sumRho3: number;
+    sumRho4: number;
+    /** Decay length of the autocorrelation, samples. */
+    correlationSamples: number;
+    /** False when the correlation outlasts the lags estimated: bands are not set from it. */
+    settled: boolean;
+    /** Samples per frame / Σρ⁴: independent samples a frame holds, as kurtosis sees them. */
+    effectiveSamplesPerFrame: number | null;
+  } | null;
+  /** Mains lines measured, by fundamental. */
+  mains: Array<{ fundamentalHz: number; broadbandRms: number; lines: Array<{ hz: number; rms: number; prominenceDb: number }> }>;
+  /** Distinct sample values in the segments (`exact` false: at least `count`). */
+  levels: { count: number; exact: boolean; smallestStep: number | null } | null;
+  /** Channels whose samples correlate with this one's by |r| ≥ 0.9. */
+  correlatedWith: Array<{ name: string; r: number; identical: boolean }> | null;
 }
 
 export interface RecordingVerdict {

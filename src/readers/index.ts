@@ -6,54 +6,89 @@ import { openWav } from './wav.js';
 import { openCsv } from './csv.js';
 import { openRaw } from './raw.js';
 import { applySidecar, findSidecar } from './sidecar.js';
+import { loadChannelTable, sidecarForRecording, type ChannelTable } from './channel-table.js';
+import { DETECT_BYTES, detectFormat, formats } from './detect.js';
 
-/** The formats vibgate reads, for `--help` and error messages. */
-export const supportedFormats = [
-  { name: 'wav', description: 'WAV (RIFF), RF64 and BW64: PCM 8/16/24/32-bit, IEEE float 32/64, WAVE_FORMAT_EXTENSIBLE' },
-  { name: 'csv', description: 'CSV/TSV text with a header row; sample rate from a time column, --sample-rate or a sidecar' },
-  { name: 'raw', description: 'raw little-endian float32/float64/int16/int32 samples described by a sidecar' },
-] as const;
+/** The formats vibgate reads, for `vibgate formats`, `--help` and error messages. */
+export const supportedFormats = formats;
 
 /**
- * Opens a recording of any supported format: picks the reader by content (the RIFF/RF64/BW64
- * magic) and then by extension, and applies the channel sidecar (`<file>.channels.yaml`, or
- * `options.sidecar`) when there is one.
+ * Opens a recording of any supported format: picks the reader by content (detect.ts: the
+ * bytes each format starts with), then by extension, and applies the channel sidecar
+ * (`<file>.channels.yaml`, `options.sidecar`, or the recording's rows of
+ * `options.channelTable`) when there is one.
  */
 export async function openRecording(path: string, options: OpenOptions = {}): Promise<Recording> {
   const info = await stat(path).catch((err: NodeJS.ErrnoException) => {
     throw new RecordingError(path, describeFsError(err));
   });
   if (info.isDirectory()) throw new RecordingError(path, 'is a directory, not a recording');
-  const sidecar = await findSidecar(path, options.sidecar);
-  const magic = await readMagic(path);
+  let sidecar = await findSidecar(path, options.sidecar);
+  const tableNote: string[] = [];
+  if (options.channelTable !== undefined) {
+    const table = await channelTableOnce(options.channelTable);
+    const fromTable = sidecarForRecording(table, path);
+    if (sidecar === undefined) sidecar = fromTable;
+    else if (fromTable !== undefined) {
+      tableNote.push(`the sidecar "${sidecar.path}" describes this recording; the channel table's ${fromTable.path.slice(table.path.length + 1)} were not used`);
+    }
+  }
+  const head = await readHead(path);
   const ext = extname(path).toLowerCase();
   let recording: Recording;
-  if (magic === 'RIFF' || magic === 'RF64' || magic === 'BW64' || ext === '.wav') {
-    recording = await openWav(path, options);
-  } else if (sidecar?.raw) {
-    recording = await openRaw(path, sidecar, options);
-  } else if (ext === '.csv' || ext === '.tsv' || ext === '.txt') {
-    recording = await openCsv(path, { ...options, sampleRate: options.sampleRate ?? sidecar?.sampleRate });
-  } else {
-    const shown = JSON.stringify(magic.replace(/[^\x20-\x7e]/g, '.'));
-    throw new RecordingError(
-      path,
-      `unknown format (content starts with ${shown}, extension "${ext || 'none'}"); ` +
-        'vibgate reads WAV/RF64/BW64, CSV/TSV, and raw samples described by a sidecar with a "raw" section',
-      0,
-    );
+  switch (detectFormat(head, ext, sidecar?.raw !== undefined)) {
+    case 'wav':
+      recording = await openWav(path, options);
+      break;
+    case 'hdf5':
+      recording = await (await import('./hdf5.js')).openHdf5(path, sidecar, options);
+      break;
+    case 'uff58':
+      recording = await (await import('./uff58.js')).openUff58(path, options);
+      break;
+    case 'raw':
+      recording = await openRaw(path, sidecar, options);
+      break;
+    case 'csv':
+      recording = await openCsv(path, { ...options, sampleRate: options.sampleRate ?? sidecar?.sampleRate });
+      break;
+    default: {
+      const magic = Buffer.from(head.subarray(0, 4)).toString('latin1');
+      const shown = JSON.stringify(magic.replace(/[^\x20-\x7e]/g, '.'));
+      throw new RecordingError(
+        path,
+        `unknown format (content starts with ${shown}, extension "${ext || 'none'}"); ` +
+          'vibgate reads WAV/RF64/BW64, UFF dataset 58, HDF5, CSV/TSV, and raw samples described by a sidecar with a "raw" section (`vibgate formats` lists them)',
+        0,
+      );
+    }
   }
-  return sidecar ? applySidecar(recording, sidecar) : recording;
+  const opened = sidecar ? applySidecar(recording, sidecar) : recording;
+  opened.notes.push(...tableNote);
+  return opened;
 }
 
-async function readMagic(path: string): Promise<string> {
+const tables = new Map<string, Promise<ChannelTable>>();
+/** A channel table is read once for all the recordings of a run. */
+function channelTableOnce(path: string): Promise<ChannelTable> {
+  let table = tables.get(path);
+  if (table === undefined) {
+    table = loadChannelTable(path);
+    tables.set(path, table);
+    table.catch(() => tables.delete(path));
+  }
+  return table;
+}
+
+/** The first DETECT_BYTES bytes of a file (fewer when it is shorter). */
+async function readHead(path: string): Promise<Uint8Array> {
   const handle = await open(path, 'r').catch((err: NodeJS.ErrnoException) => {
     throw new RecordingError(path, describeFsError(err));
   });
   try {
-    const buf = Buffer.alloc(4);
-    const { bytesRead } = await handle.read(buf, 0, 4, 0);
-    return buf.subarray(0, bytesRead).toString('latin1');
+    const buf = Buffer.alloc(DETECT_BYTES);
+    const { bytesRead } = await handle.read(buf, 0, DETECT_BYTES, 0);
+    return buf.subarray(0, bytesRead);
   } finally {
     await handle.close();
   }

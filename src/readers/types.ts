@@ -100,6 +100,11 @@ export interface OpenOptions {
   timeColumn?: string;
   /** CSV: accept decimal commas (`1,25`), with `;` or tab as field separator. */
   decimalComma?: boolean;
+  /**
+   * A campaign channel table file (see channel-table.ts): its rows for a recording act as
+   * that recording's sidecar when it has none of its own. Read once per process.
+   */
+  channelTable?: string;
   /** Instrumentation for tests: counts bytes held in read buffers. */
   meter?: ReadMeter;
 }

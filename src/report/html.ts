@@ -354,6 +354,23 @@ interface StatChart {
   limit?: (f: Finding) => Limit | null;
   /** A passing finding's value in plotted units, when it is the plotted quantity (cross-check). */
   passValue?: (f: Finding) => number | null;
+  /** Drawn only when one of `checks` ran on some channel of the recording. */
+  optional?: boolean;
+}
+
+/** The value a finding of `check` reports, as a channel's bar. */
+const findingValue = (check: string, transform: (v: number) => number = (v) => v) => (c: ChannelVerdict): number | null => {
+  const f = c.findings.find((x) => x.check === check && x.value !== null);
+  return f && f.value !== null ? transform(f.value) : null;
+};
+
+/** `≥ N PATTERN…` as a lower bound. */
+function lowerBound(pattern: string): (f: Finding) => Limit | null {
+  const re = new RegExp(`^≥ (${NUM})${pattern}`);
+  return (f) => {
+    const m = re.exec(f.limit);
+    return m ? openSides({ low: parseNumber(m[1]), high: null }) : null;
+  };
 }
 
 const finiteOrNull = (v: number) => (Number.isFinite(v) ? v : null);
@@ -464,6 +481,81 @@ const STAT_CHARTS: StatChart[] = [
     // a failing dropout may be judged on the zero run; a passing one is the longest run
     passValue: (f) => f.value,
   },
+  {
+    stat: 'group-outlier',
+    title: 'Standing out from the group',
+    note:
+      "How far the channel's RMS (log scale), crest factor or kurtosis — whichever is farthest — lies from the median of its group, in robust z-scores (0.6745 × deviation / MAD; Iglewicz & Hoaglin). 0 is the group's typical channel.",
+    yLabel: '|z| from group median',
+    checks: ['group-outlier'],
+    scale: 'linear',
+    base: 0,
+    value: findingValue('group-outlier', Math.abs),
+    unit: () => '',
+    limit: (f) => {
+      const m = new RegExp(`^\\|z\\| ≤ (${NUM})`).exec(f.limit);
+      return m ? openSides({ low: null, high: parseNumber(m[1]) }) : null;
+    },
+    passValue: (f) => (f.value === null ? null : Math.abs(f.value)),
+    optional: true,
+  },
+  {
+    stat: 'duplicate-channel',
+    title: 'Most alike other channel',
+    note: 'The largest |correlation| with any other channel of the recording over the sampled segments (shown where it exceeds 0.9). 1: the same signal twice, a patching error.',
+    yLabel: '|r|',
+    checks: ['duplicate-channel'],
+    scale: 'linear',
+    base: 0,
+    value: findingValue('duplicate-channel', Math.abs),
+    unit: () => '',
+    limit: (f) => {
+      const m = new RegExp(`^\\|r\\| < (${NUM})`).exec(f.limit);
+      return m ? openSides({ low: null, high: parseNumber(m[1]) }) : null;
+    },
+    optional: true,
+  },
+  {
+    stat: 'mains-hum',
+    title: 'Mains lines',
+    note: 'RMS of the lines at the mains frequency and its harmonics (those standing out of the spectrum beside them) over the broadband RMS, measured by Goertzel filters on sampled segments.',
+    yLabel: 'lines ÷ broadband RMS',
+    checks: ['mains-hum'],
+    scale: 'linear',
+    base: 0,
+    value: findingValue('mains-hum'),
+    unit: () => '',
+    limit: upperBound(' × broadband RMS'),
+    passValue: (f) => f.value,
+    optional: true,
+  },
+  {
+    stat: 'range-utilisation',
+    title: 'Distinct levels',
+    note: 'Distinct sample values in the sampled segments (counted up to 4096): a channel whose input range is far wider than its signal uses few converter codes and loses resolution. A log axis.',
+    yLabel: 'distinct levels',
+    checks: ['range-utilisation'],
+    scale: 'log',
+    base: 1,
+    value: (c) => c.content?.levels?.count ?? null,
+    unit: () => '',
+    limit: lowerBound(' levels'),
+    optional: true,
+  },
+  {
+    stat: 'frame-length',
+    title: 'Independent samples per frame',
+    note:
+      'Samples per frame over Σρ⁴, the sum of the autocorrelation to the fourth power: how many independent samples the frame kurtosis rests on (Lomnicki 1961). Narrow-band response holds far fewer than its sample count. A log axis.',
+    yLabel: 'independent samples',
+    checks: ['frame-length'],
+    scale: 'log',
+    base: 1,
+    value: (c) => c.content?.correlation?.effectiveSamplesPerFrame ?? null,
+    unit: () => '',
+    limit: lowerBound(' independent samples'),
+    optional: true,
+  },
 ];
 
 const RANK: Record<Finding['status'], number> = { skip: 1, pass: 2, warn: 3, fail: 4 };
@@ -494,7 +586,8 @@ function statisticCharts(r: RecordingVerdict, channels: ChannelVerdict[]): strin
   const { ratios, groups } = rmsRatios(channels);
   const wide = channels.length > 16;
   const width = wide ? 1100 : 540;
-  const figures = STAT_CHARTS.map((chart) => {
+  const ran = new Set(channels.flatMap((c) => c.findings.map((f) => f.check)));
+  const figures = STAT_CHARTS.filter((chart) => !chart.optional || chart.checks.some((id) => ran.has(id))).map((chart) => {
     const bars: BarDatum[] = channels.map((c) => {
       const own = c.findings.filter((f) => chart.checks.includes(f.check));
       const worst = own.reduce<Finding | null>((w, f) => (w === null || RANK[f.status] > RANK[w.status] ? f : w), null);

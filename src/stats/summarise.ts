@@ -1,5 +1,7 @@
 import { ChannelAccumulator, type ChannelSummary, type FrameGeometry } from './channel-accumulator.js';
 import { mergeChannelSummaries } from './merge.js';
+import { mergeSegmentSummaries, needsNothing, SegmentAnalyses, type SegmentNeeds, type SegmentSummary } from './segment-analyses.js';
+import { segmentPlan } from './segments.js';
 
 export interface FrameOptions {
   /** Frame length in seconds (default 1 s, a usual length for vibration data). */
@@ -16,6 +18,8 @@ export interface RecordingSummary {
   start: number;
   samples: number;
   channels: ChannelSummary[];
+  /** Analyses of sampled segments, when the checks asked for any (segment-analyses.ts). */
+  segments?: SegmentSummary;
 }
 
 /** Frame length and hop in samples for a sample rate and the user's frame options. */
@@ -35,6 +39,8 @@ export function frameGeometry(sampleRate: number, options: FrameOptions = {}): F
 
 export interface StreamMeta {
   sampleRate: number;
+  /** Sample frames in the whole record, when known: fixes where the sampled segments lie. */
+  sampleCount?: number;
   channels: ReadonlyArray<{ clipLow?: number; clipHigh?: number }>;
 }
 
@@ -45,22 +51,28 @@ export interface StreamMeta {
 export async function summariseBlocks(
   blocks: AsyncIterable<{ start: number; length: number; channels: Float64Array[] }>,
   meta: StreamMeta,
-  options: FrameOptions & { start?: number } = {},
+  options: FrameOptions & { start?: number; segments?: SegmentNeeds } = {},
 ): Promise<RecordingSummary> {
   const geometry = frameGeometry(meta.sampleRate, options);
   const start = options.start ?? 0;
   const accs = meta.channels.map(
     (c) => new ChannelAccumulator(geometry, { low: c.clipLow, high: c.clipHigh }, start),
   );
+  const analyses = needsNothing(options.segments)
+    ? null
+    : new SegmentAnalyses(segmentPlan(meta.sampleRate, meta.sampleCount), options.segments!, { sampleRate: meta.sampleRate, channels: accs.length, start });
   let samples = 0;
   for await (const block of blocks) {
     if (block.start !== start + samples) {
       throw new RangeError(`Block starts at sample ${block.start}, expected ${start + samples}`);
     }
     for (let c = 0; c < accs.length; c++) accs[c].push(block.channels[c], block.length);
+    analyses?.push(block.channels, block.length);
     samples += block.length;
   }
-  return { sampleRate: meta.sampleRate, geometry, start, samples, channels: accs.map((a) => a.summary()) };
+  const summary: RecordingSummary = { sampleRate: meta.sampleRate, geometry, start, samples, channels: accs.map((a) => a.summary()) };
+  if (analyses) summary.segments = analyses.summary();
+  return summary;
 }
 
 /** Summary of span `a` followed by span `b` of the same recording. */
@@ -68,11 +80,14 @@ export function mergeRecordingSummaries(a: RecordingSummary, b: RecordingSummary
   if (a.sampleRate !== b.sampleRate || a.channels.length !== b.channels.length) {
     throw new RangeError('Cannot merge summaries of recordings with different sample rates or channel counts');
   }
-  return {
+  const merged: RecordingSummary = {
     sampleRate: a.sampleRate,
     geometry: a.geometry,
     start: a.start,
     samples: a.samples + b.samples,
     channels: a.channels.map((c, i) => mergeChannelSummaries(c, b.channels[i])),
   };
+  if (a.segments && b.segments) merged.segments = mergeSegmentSummaries(a.segments, b.segments);
+  else if (a.segments || b.segments) throw new RangeError('Cannot merge a summary with segment analyses and one without');
+  return merged;
 }

@@ -37,6 +37,7 @@
 import type { ChannelInfo } from '../readers/types.js';
 import type { ChannelSummary } from './channel-accumulator.js';
 import { mergeRecordingSummaries, type RecordingSummary } from './summarise.js';
+import type { SegmentSummary } from './segment-analyses.js';
 
 export const PARTIAL_KIND = 'vibgate partial summary';
 export const PARTIAL_FORMAT = 1;
@@ -131,7 +132,7 @@ function encodeTree(value: unknown): unknown {
  * an array of numbers. A file missing a field, or holding anything else where a number
  * belongs, is refused rather than half read.
  */
-type Shape = 'n' | 'n?' | '[n]' | { [key: string]: Shape };
+type Shape = 'n' | 'n?' | '[n]' | 'b' | readonly ['array', Shape] | readonly ['nullable', Shape] | { [key: string]: Shape };
 
 const RUN: Shape = { length: 'n', start: 'n', value: 'n' };
 const EXTREME: Shape = { value: 'n', count: 'n', sumRunSquares: 'n', repeated: 'n', firstIndex: 'n' };
@@ -151,6 +152,26 @@ const CHANNEL_SUMMARY: Shape = {
     n: '[n]', mean: '[n]', m2: '[n]', m3: '[n]', m4: '[n]', min: '[n]', max: '[n]',
   },
 };
+const DISTINCT_LEVELS: Shape = { cap: 'n', values: '[n]', saturated: 'b', segmentStep: 'n', samples: 'n', nonFinite: 'n' };
+const LAG_SUMS: Shape = { segmentSamples: 'n', segments: 'n', lagSums: '[n]' };
+const HARMONIC_SUMS: Shape = { harmonic: 'n', gridHz: '[n]', power: '[n]', floorHz: '[n]', floorPower: '[n]' };
+const LINE_SUMS: Shape = {
+  sampleRate: 'n', segmentSamples: 'n', fundamentalHz: 'n', harmonics: 'n', driftHz: 'n',
+  segments: 'n', skippedSegments: 'n', sumSquares: 'n', lines: ['array', HARMONIC_SUMS],
+};
+const CROSS_SUMS: Shape = {
+  channels: 'n', segments: 'n', skippedSegments: 'n', n: 'n',
+  mean: '[n]', m2: '[n]', min: '[n]', max: '[n]', comoment: '[n]', identical: '[n]',
+};
+/** RecordingSummary.segments (segment-analyses.ts), present when checks asked for it. */
+const SEGMENT_SUMMARY: Shape = {
+  plan: { segmentSamples: 'n', strideSamples: 'n' },
+  used: 'n',
+  autocorrelation: ['nullable', ['array', LAG_SUMS]],
+  lines: ['array', { fundamentalHz: 'n', harmonics: 'n', channels: ['array', LINE_SUMS] }],
+  cross: ['nullable', CROSS_SUMS],
+  levels: ['nullable', ['array', DISTINCT_LEVELS]],
+};
 const SUMMARY_HEAD: Shape = { sampleRate: 'n', geometry: { frameSamples: 'n', hopSamples: 'n' }, start: 'n', samples: 'n' };
 
 class ShapeError extends Error {}
@@ -164,6 +185,16 @@ function decodeNumber(v: unknown, where: string): number {
 function decodeShape(v: unknown, shape: Shape, where: string): unknown {
   if (shape === 'n') return decodeNumber(v, where);
   if (shape === 'n?') return v === null ? null : decodeNumber(v, where);
+  if (shape === 'b') {
+    if (typeof v !== 'boolean') throw new ShapeError(`${where} must be true or false, not ${short(v)}`);
+    return v;
+  }
+  if (Array.isArray(shape)) {
+    const [kind, inner] = shape as readonly ['array' | 'nullable', Shape];
+    if (kind === 'nullable') return v === null ? null : decodeShape(v, inner, where);
+    if (!Array.isArray(v)) throw new ShapeError(`${where} must be an array, not ${short(v)}`);
+    return v.map((item, i) => decodeShape(item, inner, `${where}[${i}]`));
+  }
   if (shape === '[n]') {
     if (!Array.isArray(v)) throw new ShapeError(`${where} must be an array of numbers, not ${short(v)}`);
     const out = new Array<number>(v.length);
@@ -173,7 +204,7 @@ function decodeShape(v: unknown, shape: Shape, where: string): unknown {
   if (v === null || typeof v !== 'object' || Array.isArray(v)) throw new ShapeError(`${where} must be an object, not ${short(v)}`);
   const o = v as Record<string, unknown>;
   const out: Record<string, unknown> = {};
-  for (const [key, sub] of Object.entries(shape)) {
+  for (const [key, sub] of Object.entries(shape as { [key: string]: Shape })) {
     if (!(key in o)) throw new ShapeError(`${where}.${key} is missing`);
     out[key] = decodeShape(o[key], sub, `${where}.${key}`);
   }
@@ -295,6 +326,8 @@ function decodePart(v: unknown, where: string): PartialPart {
       (c, i) => decodeShape(c, CHANNEL_SUMMARY, `${where}.summary.channels[${i}]`) as ChannelSummary,
     );
     summary = { ...head, channels };
+    const segments = (p.summary as Record<string, unknown>).segments;
+    if (segments !== undefined) summary.segments = decodeShape(segments, SEGMENT_SUMMARY, `${where}.summary.segments`) as SegmentSummary;
   }
   const error = nullableString(p.error, `${where}.error`);
   if (error === null && (summary === null || section === null)) throw new ShapeError(`${where} has neither a summary and section nor an error`);

@@ -13,8 +13,8 @@ import { loadRules } from '../../src/rules/load.js';
 import type { ResolvedRules } from '../../src/rules/types.js';
 import { judgeRecording, type ReadRecording } from '../../src/gate/judge.js';
 import type { ChannelVerdict } from '../../src/gate/types.js';
-import { ChannelAccumulator } from '../../src/stats/channel-accumulator.js';
-import { frameGeometry, type RecordingSummary } from '../../src/stats/summarise.js';
+import { summariseBlocks, type RecordingSummary } from '../../src/stats/summarise.js';
+import { segmentNeedsFor } from '../../src/gate/needs.js';
 import type { ChannelInfo } from '../../src/readers/types.js';
 import {
   ALL_FAULTS,
@@ -26,8 +26,10 @@ import {
   shockSetup,
   type FaultKind,
   type FaultOptions,
+  rmsOf,
   type SimChannel,
 } from '../helpers/simulate.js';
+import { normalSource } from '../helpers/random.js';
 
 /** What a fault must do: the channel's verdict, and the check that must report it. */
 interface Expectation {
@@ -38,7 +40,8 @@ interface Expectation {
 /** One channel of the calibration set: clean (fault null) or with one injected fault. */
 interface Case {
   channel: SimChannel;
-  fault: FaultKind | null;
+  /** An injected fault, `patched-twice` for one of two channels carrying one signal, null when clean. */
+  fault: FaultKind | 'patched-twice' | null;
   expected?: Expectation;
 }
 
@@ -85,17 +88,46 @@ const RANDOM_CATCHES: Record<Exclude<FaultKind, 'zero-shift'>, Expectation> = {
   burst: fail('kurtosis'),
   'mains-hum': fail('kurtosis'),
   'non-finite': fail('non-finite'),
+  // advisory checks: the data are still usable for some purposes, a person decides
+  'mains-hum-mild': warn('mains-hum'),
+  'under-ranged': warn('range-utilisation'),
+  'sensitivity-error': warn('group-outlier'),
 };
 
-/** Each fault on a copy of each host channel; the hosts themselves stay in as clean channels. */
+/**
+ * A second sensor beside `host`: the host's signal plus its own independent noise 30 dB
+ * down (r = 1/√1.001 ≈ 0.9995 with the host), as two real sensors differ. Without it every
+ * fault copy would be the same signal as its host, which duplicate-channel rightly fails.
+ */
+function besideHost(host: SimChannel, seed: number): SimChannel {
+  const g = normalSource(seed);
+  const k = 10 ** (-30 / 20) * rmsOf(host.x);
+  return { ...host, x: host.x.map((v) => v + k * g()) };
+}
+
+/** Each fault on a sensor beside each host channel; the hosts themselves stay in as clean channels. */
 function faultCases(hosts: SimChannel[], faults: Array<[FaultKind, Expectation]>, fo: Omit<FaultOptions, 'seed'>, seed: number): Case[] {
   const out: Case[] = [];
   hosts.forEach((host, h) => {
     faults.forEach(([fault, expected], f) => {
-      out.push({ channel: injectFault(host, fault, { ...fo, seed: seed + 100 * h + f }), fault, expected });
+      const s = seed + 100 * h + f;
+      out.push({ channel: injectFault(besideHost(host, s + 50_000), fault, { ...fo, seed: s }), fault, expected });
     });
   });
   return out;
+}
+
+/**
+ * One input patched to two channels (a Y-cable): two channels with the very same samples,
+ * a sensor beside `host`. Both are the fault; duplicate-channel must fail both.
+ */
+function patchedTwice(host: SimChannel, seed: number): Case[] {
+  const signal = besideHost(host, seed);
+  return ['a', 'b'].map((side) => ({
+    channel: { ...signal, name: `${host.name}~patched-twice-${side}`, x: Float64Array.from(signal.x) },
+    fault: 'patched-twice' as const,
+    expected: fail('duplicate-channel'),
+  }));
 }
 
 const clean = (channels: SimChannel[]): Case[] => channels.map((channel) => ({ channel, fault: null }));
@@ -122,9 +154,14 @@ const kinds: Record<string, Kind> = {
       // the narrow-band hosts are the hard case: fewest independent samples
       const hosts = [cleanSet[0], cleanSet[6], cleanSet[7]];
       const faults = Object.entries(RANDOM_CATCHES) as Array<[FaultKind, Expectation]>;
+      // Mild hum on a narrow-band host is left out: its one mode (30–120 Hz, ζ 1–2 %) may sit
+      // on a mains harmonic, and a line riding on a lightly damped mode of the same
+      // frequency is not told from the mode with two-second segments (a documented limit of
+      // mains-hum, shown in test/checks/mains-hum.test.ts). The broadband host carries it.
+      const narrowFaults = faults.filter(([f]) => f !== 'mains-hum-mild');
       return [
-        { path: 'random-1', fs: RV.fs, cases: [...clean(cleanSet.slice(0, 6)), ...faultCases(hosts.slice(0, 1), faults, RV, S + 7000)] },
-        { path: 'random-2', fs: RV.fs, cases: [...clean(cleanSet.slice(6)), ...faultCases(hosts.slice(1), faults, RV, S + 7100)] },
+        { path: 'random-1', fs: RV.fs, cases: [...clean(cleanSet.slice(0, 6)), ...faultCases(hosts.slice(0, 1), faults, RV, S + 7000), ...patchedTwice(hosts[0], S + 7050)] },
+        { path: 'random-2', fs: RV.fs, cases: [...clean(cleanSet.slice(6)), ...faultCases(hosts.slice(1), narrowFaults, RV, S + 7100)] },
       ];
     },
   },
@@ -139,7 +176,7 @@ const kinds: Record<string, Kind> = {
       const faults = Object.entries({ ...RANDOM_CATCHES, rattle: fail('skewness') }) as Array<[FaultKind, Expectation]>;
       const fo = { ...AMB, humRatio: [2, 3] as [number, number], burstPeak: [20, 40] as [number, number] };
       return [
-        { path: 'ambient-1', fs: AMB.fs, cases: [...clean(cleanSet.slice(0, 5)), ...faultCases([cleanSet[0]], faults, fo, S + 7200)] },
+        { path: 'ambient-1', fs: AMB.fs, cases: [...clean(cleanSet.slice(0, 5)), ...faultCases([cleanSet[0]], faults, fo, S + 7200), ...patchedTwice(cleanSet[0], S + 7250)] },
         { path: 'ambient-2', fs: AMB.fs, cases: [...clean(cleanSet.slice(5)), ...faultCases([cleanSet[7]], faults, fo, S + 7300)] },
       ];
     },
@@ -240,19 +277,22 @@ const kinds: Record<string, Kind> = {
 /** The project root: rule paths are given as a user in it would give them. */
 const ROOT = fileURLToPath(new URL('../../', import.meta.url));
 
-/** The recording's summary as the stats engine streams it: blocks of 65536 sample frames. */
-function summarise(rec: Recording, rules: ResolvedRules): RecordingSummary {
-  const geometry = frameGeometry(rec.fs, { frameSeconds: rules.analysis.frameSeconds, overlap: rules.analysis.overlap });
+/**
+ * The recording's summary as the stats engine streams it: blocks of 65536 sample frames,
+ * with the segment analyses the rule file's checks need for these channels.
+ */
+async function summarise(rec: Recording, rules: ResolvedRules, channels: ChannelInfo[]): Promise<RecordingSummary> {
   const n = rec.cases[0].channel.x.length;
-  const accs = rec.cases.map((c) => new ChannelAccumulator(geometry, { low: c.channel.clipLow, high: c.channel.clipHigh }));
-  for (let start = 0; start < n; start += 65536) {
-    const end = Math.min(n, start + 65536);
-    rec.cases.forEach((c, i) => accs[i].push(c.channel.x.subarray(start, end)));
+  async function* blocks() {
+    for (let start = 0; start < n; start += 65536) {
+      const end = Math.min(n, start + 65536);
+      yield { start, length: end - start, channels: rec.cases.map((c) => c.channel.x.subarray(start, end)) };
+    }
   }
-  return { sampleRate: rec.fs, geometry, start: 0, samples: n, channels: accs.map((a) => a.summary()) };
+  return summariseBlocks(blocks(), { sampleRate: rec.fs, sampleCount: n, channels }, { ...rules.analysis, segments: segmentNeedsFor(rules, channels) });
 }
 
-function readRecording(rec: Recording, rules: ResolvedRules): ReadRecording {
+async function readRecording(rec: Recording, rules: ResolvedRules): Promise<ReadRecording> {
   const channels: ChannelInfo[] = rec.cases.map(({ channel: c }, index) => {
     const info: ChannelInfo = { index, name: c.name, unit: c.unit, sensor: c.sensor };
     if (c.group !== undefined) info.group = c.group;
@@ -260,7 +300,7 @@ function readRecording(rec: Recording, rules: ResolvedRules): ReadRecording {
     if (c.clipHigh !== undefined) info.clipHigh = c.clipHigh;
     return info;
   });
-  return { path: rec.path, sha256: null, format: 'simulated', sampleRate: rec.fs, channels, notes: [], summary: summarise(rec, rules) };
+  return { path: rec.path, sha256: null, format: 'simulated', sampleRate: rec.fs, channels, notes: [], summary: await summarise(rec, rules, channels) };
 }
 
 interface Tally {
@@ -279,7 +319,7 @@ describe('bundled rule files on the seeded calibration set', () => {
   for (const [kind, spec] of Object.entries(kinds)) {
     describe(kind, async () => {
       const rules = await loadRules(spec.rules, { cwd: ROOT });
-      const judged = spec.recordings().map((rec) => ({ rec, verdict: judgeRecording(readRecording(rec, rules), rules) }));
+      const judged = await Promise.all(spec.recordings().map(async (rec) => ({ rec, verdict: judgeRecording(await readRecording(rec, rules), rules) })));
       const tally: Tally = { caught: 0, injected: 0, cleanFailed: 0, cleanWarned: 0, clean: 0 };
       tallies.set(kind, tally);
       const all = judged.flatMap(({ rec, verdict }) => rec.cases.map((c, i) => ({ c, v: verdict.channels[i], rec })));

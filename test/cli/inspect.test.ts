@@ -95,7 +95,7 @@ describe('vibgate inspect', () => {
     expect(r.code).toBe(1);
     expect(r.stderr).toBe(
       `vibgate: Cannot read "${f}": unknown format (content starts with "OggS", extension ".ogg"); ` +
-        'vibgate reads WAV/RF64/BW64, CSV/TSV, and raw samples described by a sidecar with a "raw" section\n',
+        'vibgate reads WAV/RF64/BW64, UFF dataset 58, HDF5, CSV/TSV, and raw samples described by a sidecar with a "raw" section (`vibgate formats` lists them)\n',
     );
   });
 

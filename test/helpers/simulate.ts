@@ -391,6 +391,9 @@ export type FaultKind =
   | 'rattle'
   | 'burst'
   | 'mains-hum'
+  | 'mains-hum-mild'
+  | 'under-ranged'
+  | 'sensitivity-error'
   | 'non-finite'
   | 'zero-shift';
 
@@ -399,6 +402,7 @@ export const ALL_FAULTS: readonly FaultKind[] = [
   'clipping-both-full-scale', 'clipping-one-side', 'clipping-both-unknown-range',
   'dropout-zeros', 'stuck-converter', 'dead-channel', 'flat-channel',
   'dc-offset', 'drift-ramp', 'drift-thermal', 'rattle', 'burst', 'mains-hum', 'non-finite',
+  'mains-hum-mild', 'under-ranged', 'sensitivity-error',
 ];
 
 export interface FaultOptions {
@@ -601,6 +605,37 @@ export function injectFault(ch: SimChannel, fault: FaultKind, o: FaultOptions): 
           x[i] += a * Math.exp(-s / tau) * Math.sin(2 * Math.PI * ringHz * s);
         }
       }
+      break;
+    }
+    case 'mains-hum-mild': {
+      // Hum that does not distort the distribution much (kurtosis barely moves) but stands
+      // out of every spectrum: the fundamental at 0.2–0.4 × the response's RMS, a third
+      // harmonic of 20 % of that.
+      const mains = o.mainsHz ?? 50;
+      const rmsHum = d.uniform(0.2, 0.4) * sigma;
+      const ph = d.uniform(0, 2 * Math.PI);
+      for (let i = 0; i < n; i++) {
+        const t = i / fs;
+        let v = Math.SQRT2 * rmsHum * Math.sin(2 * Math.PI * mains * t + ph);
+        if (3 * mains < 0.45 * fs) v += 0.2 * Math.SQRT2 * rmsHum * Math.sin(2 * Math.PI * 3 * mains * t + 3 * ph);
+        x[i] += v;
+      }
+      break;
+    }
+    case 'under-ranged': {
+      // A shock-test range left on a vibration channel: a 16-bit converter whose full scale
+      // is 2000–4000 × the signal's RMS, so the signal spans a few dozen codes.
+      const fullScale = d.uniform(2000, 4000) * sigma;
+      quantise(x, fullScale, 16);
+      out.clipLow = -fullScale;
+      out.clipHigh = fullScale * (1 - 2 ** -15);
+      break;
+    }
+    case 'sensitivity-error': {
+      // A sensitivity entered in the wrong unit in the channel table (mV/g taken as
+      // mV/(m/s²), or V for mV): the channel reads 20–50 × its true level.
+      const k = d.uniform(20, 50);
+      for (let i = 0; i < n; i++) x[i] *= k;
       break;
     }
     case 'mains-hum': {
