@@ -38,14 +38,14 @@ export const duplicateChannel: Check<Options> = {
         ok: true, value: closest ? closest.r : null, unit: '', limit,
         message: closest
           ? `most alike: "${closest.channel.name}" with r = ${rText(closest.r)}; limit ${limit}`
-          : `no other channel correlates beyond |r| = 0.9 over ${seg.used} segments of ${seg.segmentSamples} samples`,
+          : `no other channel correlates beyond |r| = 0.9 over ${seg.used} sampled segments`,
       };
     }
     const names = hits.map((p) => `"${p.channel.name}"`).join(', ');
     const first = hits[0];
     const how = first.identical
-      ? `has the same samples as ${names} in every sampled segment (${seg.used} × ${seg.segmentSamples} samples)`
-      : `correlates with ${names} at r = ${rText(first.r)}${first.r < 0 ? ' (reversed polarity)' : ''} over ${seg.used} segments of ${seg.segmentSamples} samples`;
+      ? `has the same samples as ${names} in all ${seg.used} sampled segments`
+      : `correlates with ${names} at r = ${rText(first.r)}${first.r < 0 ? ' (reversed polarity)' : ''} over ${seg.used} sampled segments`;
     return {
       ok: false, value: first.identical ? 1 : first.r, unit: '', limit,
       message: `${how}, beyond the limit ${limit}: one input patched to two channels (a Y-cable, a bridged connector), or a channel table row pointing at the wrong input?`,

@@ -19,7 +19,7 @@ describe('duplicate-channel check', () => {
   it('passes independent channels', async () => {
     const r = await judge([gaussian(n, 1), gaussian(n, 2), gaussian(n, 3)]);
     expect(r.map((o) => o.ok)).toEqual([true, true, true]);
-    expect(r[0].message).toBe('no other channel correlates beyond |r| = 0.9 over 10 segments of 4096 samples');
+    expect(r[0].message).toBe('no other channel correlates beyond |r| = 0.9 over 10 sampled segments');
   });
 
   it('fails both channels of an identical pair, each naming the other', async () => {
@@ -27,7 +27,7 @@ describe('duplicate-channel check', () => {
     const r = await judge([a, gaussian(n, 5), a.slice()], {});
     expect(r.map((o) => o.ok)).toEqual([false, true, false]);
     expect(r[0].message).toBe(
-      'has the same samples as "acc-03" in every sampled segment (10 × 4096 samples), beyond the limit |r| < 0.9999 with every other channel: ' +
+      'has the same samples as "acc-03" in all 10 sampled segments, beyond the limit |r| < 0.9999 with every other channel: ' +
         'one input patched to two channels (a Y-cable, a bridged connector), or a channel table row pointing at the wrong input?',
     );
     expect(r[2].message).toContain('as "acc-01"');

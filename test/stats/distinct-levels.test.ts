@@ -59,13 +59,9 @@ describe('distinct levels of quantised data', () => {
     expect(distinctLevelCount(s)).toEqual({ count: 4096, exact: false });
     expect(s.values).toEqual([]);
     expect(JSON.stringify(s).length).toBeLessThan(200);
-    const sorted = Float64Array.from(x).sort();
-    // the step is an upper bound past the cap: at least the true smallest gap of all samples
-    let trueStep = Infinity;
-    for (let i = 1; i < sorted.length; i++) if (sorted[i] > sorted[i - 1]) trueStep = Math.min(trueStep, sorted[i] - sorted[i - 1]);
-    expect(smallestLevelStep(s)).toBeGreaterThanOrEqual(trueStep);
-    // within one segment of 4096 the smallest of 4095 Gaussian spacings is ~1e-7 of σ: far below 1e-4
-    expect(smallestLevelStep(s)).toBeLessThan(1e-4);
+    // past the cap the step is not kept: resolution is not in question there
+    expect(smallestLevelStep(s)).toBeNaN();
+    expect(s.samples).toBe(2 ** 16);
   });
 
   it('exactly cap distinct values are still an exact count', () => {
@@ -88,7 +84,9 @@ describe('merging', () => {
       expect(mergeDistinctLevels(a, b)).toEqual(whole);
       expect(mergeDistinctLevels(b, a)).toEqual(whole);
       expect(mergeDistinctLevels(emptyDistinctLevels(cap), whole)).toEqual(whole);
-      expect(JSON.parse(JSON.stringify(whole))).toEqual(whole);
+      // plain JSON holds the state below the cap; past it the step is Infinity, which the
+      // partial summary files encode (test/cli/segments-parallel.test.ts)
+      if (!whole.saturated) expect(JSON.parse(JSON.stringify(whole))).toEqual(whole);
     });
   }
 

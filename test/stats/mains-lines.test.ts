@@ -87,6 +87,29 @@ describe('a sine of amplitude A in white noise reads RMS A/√2', () => {
     expect(Math.abs(line.rms / (A / Math.SQRT2) - 1)).toBeLessThan(1e-6);
   });
 
+  it('decimates at high rates without moving a line or its floor: 25.6 kHz, 5 harmonics (sums of 16 samples)', () => {
+    // fs/D = 1600 Hz ≥ 16 × the top floor point near 253 Hz: D = 16. The gain of the sum is
+    // undone per frequency; white noise folding in from near 1600 Hz is attenuated by the
+    // Dirichlet kernel's nulls, so the floor stays at 2σ²·ENBW/M (Harris 1978, Hann 1.5 bins)
+    const hi = { sampleRate: 25600, segmentSamples: 65536, fundamentalHz: 50, harmonics: 5 };
+    const n = 4 * 65536;
+    const floors: number[] = [];
+    for (let seed = 0; seed < 6; seed++) {
+      const x = plus(tone(n, 25600, 50.1, 0.5, 0.4), tone(n, 25600, 250.5, 0.2, 1.3), whiteNoise(n, 300 + seed, 1));
+      const levels = lineLevels(sumsOf(x, hi));
+      // the noise in a line's bandwidth moves its RMS by about ±floorRms/rms (cross term of
+      // line and noise, averaged over only 4 segments): allow 3 times that, plus 0.5 %
+      for (const [l, a] of [[levels[0], 0.5], [levels[4], 0.2]] as const) {
+        const rms = a / Math.SQRT2;
+        expect(Math.abs(l.rms / rms - 1)).toBeLessThan(0.005 + (3 * l.floorRms) / rms);
+      }
+      for (const l of levels.slice(1, 4)) floors.push(l.floorRms ** 2 / ((2 * 1.5) / 65536));
+    }
+    const mean = floors.reduce((a, b) => a + b) / floors.length;
+    // 18 floor estimates of 6 points × 4 segments: scatter about 1/√(18·24/1.5) ≈ 0.06
+    expect(Math.abs(mean - 1)).toBeLessThan(0.15);
+  });
+
   it('measures the harmonics at 100 and 150 Hz, each within 2 %, with the fundamental 0.2 Hz high', () => {
     // harmonic h drifts h × 0.2 Hz: 150.6 Hz is 1.2 bins from 150 Hz
     const [A1, A2, A3] = [1, 0.3, 0.2];
