@@ -89,7 +89,7 @@ export class DistinctLevelCounter {
   private segmentStep = Infinity;
   private samples = 0;
   private nonFinite = 0;
-  private scratch = new Float64Array(0);
+  private scratch: Float64Array = new Float64Array(0);
 
   constructor(cap: number) {
     assertCap(cap);
