@@ -188,6 +188,51 @@ export async function main(argv: string[], io: CliIo): Promise<number> {
       });
     });
 
+  readOptions(
+    program
+      .command('learn')
+      .description(
+        'Write a rule file whose limits are learned from recordings known to be good (docs/learning.md). ' +
+          'Exit 0 written, 1 a recording unreadable or a file unwritable, 2 usage, rule-file error or too little data.',
+      )
+      .argument('[recording...]', 'recordings known to be good (at least 3; the formats screen reads)')
+      .requiredOption('-o, --output <file>', 'rule file to write; its evidence goes to <file>.evidence.json')
+      .option('--extends <file>', 'base rule file the learned limits go on top of, or bundled:NAME (default bundled:base)')
+      .addOption(new Option('--by <grouping>', 'learn limits per channel name, per sensor type, or over all channels (default channel)').choices(['channel', 'sensor', 'all']))
+      .option('--margin <k>', 'limit = median ± k × spread, spread = 1.4826 × MAD (default 8)', positiveNumber('margin'))
+      .option('--name <name>', "the rule file's name (default: its file name without .yaml)")
+      .option(
+        '--checks <ids>',
+        'comma-separated checks to learn (default mean-offset,symmetry,skewness,kurtosis,crest-factor,frame-rms-spread; rms-level with --by channel)',
+        (v: string) => v.split(',').map((s) => s.trim()).filter(Boolean),
+      )
+      .option('--update', 'add the recordings to the evidence of an existing learned file and learn again (settings default to its own)')
+      .option('--force', 'replace an existing rule file and its evidence')
+      .option('--rules-root <dir...>', "another directory the base's extends may read from"),
+  ).action(async (paths: string[], o: Record<string, unknown>) => {
+    const { runLearn } = await import('./learn.js');
+    code = await runLearn(
+      paths,
+      {
+        output: o.output as string,
+        extends: o.extends as string | undefined,
+        by: o.by as 'channel' | 'sensor' | 'all' | undefined,
+        margin: o.margin as number | undefined,
+        name: o.name as string | undefined,
+        checks: o.checks as string[] | undefined,
+        update: o.update === true,
+        force: o.force === true,
+        rulesRoots: o.rulesRoot as string[] | undefined,
+        sidecar: o.sidecar as string | undefined,
+        channelTable: o.channelTable as string | undefined,
+        sampleRate: o.sampleRate as number | undefined,
+        decimalComma: o.decimalComma === true,
+        jobs: o.jobs as number | undefined,
+      },
+      io,
+    );
+  });
+
   program
     .command('verify')
     .description('Check a JSON record: its signature, that its recordings and rule files are unchanged, its ledger entry. Exit 0 all hold, 1 something differs, 2 unreadable.')

@@ -6,9 +6,18 @@ import { openRecording } from '../../src/readers/index.js';
 import { detectFormat, formats } from '../../src/readers/detect.js';
 import { runCli } from '../helpers/cli.js';
 import { gaussian } from '../helpers/random.js';
-import { statsOf } from '../helpers/summarise.js';
+import { channelStats } from '../../src/stats/channel-stats.js';
+import { summariseBlocks } from '../../src/stats/summarise.js';
+import type { Recording } from '../../src/readers/types.js';
 import { dataset151, dataset58, uffFile } from '../helpers/uff-writer.js';
 import { buildWav, fixtureDir, FORMAT_FLOAT, interleave, writeFixture } from '../helpers/wav-writer.js';
+
+/** Every channel's statistics, the recording streamed as screen streams it (0.5 s frames). */
+async function statsOf(rec: Recording) {
+  const summary = await summariseBlocks(rec.blocks({ blockFrames: 1000 }), rec, { frameSeconds: 0.5 });
+  expect(summary.samples).toBe(4096);
+  return summary.channels.map((c) => channelStats(c, { sampleRate: rec.sampleRate }));
+}
 
 let dir: string;
 const x = gaussian(4096, 1);
