@@ -16,6 +16,7 @@ import { groupOutlier } from './group-outlier.js';
 import { duplicateChannel } from './duplicate-channel.js';
 import { mainsHum } from './mains-hum.js';
 import { rangeUtilisation } from './range-utilisation.js';
+import { frameLength } from './frame-length.js';
 
 /**
  * Every check, in the order findings are reported (universal data faults first, then the
@@ -39,6 +40,7 @@ export const checks: ReadonlyArray<Check<any>> = [
   groupOutlier,
   frameRmsSpread,
   stationarity,
+  frameLength,
 ];
 
 const byId = new Map(checks.map((c) => [c.id, c]));

@@ -68,13 +68,13 @@ export async function recordingContexts(
   }
   const summary = await summariseBlocks(blocks(), { sampleRate: fs, sampleCount: n, channels }, { frameSeconds: o.frameSeconds ?? 1, segments: o.needs });
   const stats = summary.channels.map((s) => channelStats(s, { sampleRate: fs }));
-  const views = channelSegments(summary.segments!, channels);
+  const views = summary.segments ? channelSegments(summary.segments, channels) : null;
   return channels.map((channel, i) => ({
     recording: { path: 'test.wav', sampleRate: fs, durationS: n / fs },
     channel,
     stats: stats[i],
     summary: summary.channels[i],
     peers: channels.map((c, j) => ({ channel: c, stats: stats[j] })),
-    segments: views[i],
+    ...(views ? { segments: views[i] } : {}),
   }));
 }

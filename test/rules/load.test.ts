@@ -81,7 +81,7 @@ const badFiles: BadCase[] = [
   {
     what: 'an unknown option of a check, listing the options it has',
     files: { 'main.yaml': 'format: 1\nname: lab\nchecks:\n  kurtosis:\n    limit: 3\n' },
-    message: 'main.yaml:5:5 checks.kurtosis.limit: unknown key "limit" (known: severity, whole, frames)',
+    message: 'main.yaml:5:5 checks.kurtosis.limit: unknown key "limit" (known: severity, whole, frames, confidence)',
   },
   {
     what: 'a number where a range belongs',
@@ -391,8 +391,8 @@ describe('loadRules() refuses a bad rule file with every problem at file:line:co
     const error = await rulesErrorOf(loadRules('main.yaml', { cwd: dir }));
     expect(error.problems.map((p) => `${p.path}: ${p.message}`)).toEqual([
       `__proto__: unknown key "__proto__" (known: ${topKeys})`,
-      'checks.kurtosis.__proto__: unknown key "__proto__" (known: severity, whole, frames)',
-      'checks.kurtosis.constructor: unknown key "constructor" (known: severity, whole, frames)',
+      'checks.kurtosis.__proto__: unknown key "__proto__" (known: severity, whole, frames, confidence)',
+      'checks.kurtosis.constructor: unknown key "constructor" (known: severity, whole, frames, confidence)',
     ]);
     expect(({} as Record<string, unknown>).polluted).toBeUndefined();
     expect(Object.prototype).not.toHaveProperty('polluted');
