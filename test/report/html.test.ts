@@ -61,8 +61,18 @@ const CHART_CHECKS: Record<string, string[]> = {
   'crest-factor': ['crest-factor'],
   clipping: ['clipping'],
   dropout: ['dropout'],
+  // drawn only where the rule file runs the check on some channel of the recording
+  'group-outlier': ['group-outlier'],
+  'duplicate-channel': ['duplicate-channel'],
+  'mains-hum': ['mains-hum'],
+  'range-utilisation': ['range-utilisation'],
+  'frame-length': ['frame-length'],
 };
+const OPTIONAL = new Set(['group-outlier', 'duplicate-channel', 'mains-hum', 'range-utilisation', 'frame-length']);
 const STATS = Object.keys(CHART_CHECKS);
+/** The charts a recording's report has: every fixed one, and the optional ones whose check ran. */
+const statsOf = (r: { channels: ChannelVerdict[] }) =>
+  STATS.filter((s) => !OPTIONAL.has(s) || r.channels.some((c) => c.findings.some((f) => CHART_CHECKS[s].includes(f.check))));
 
 const RANK: Record<Finding['status'], number> = { skip: 1, pass: 2, warn: 3, fail: 4 };
 
@@ -98,7 +108,7 @@ describe('html report: charts across channels', () => {
         expect(charts, r.path).toHaveLength(0);
         continue;
       }
-      expect(charts.map((c) => c.attrs['data-stat']), r.path).toEqual(STATS);
+      expect(charts.map((c) => c.attrs['data-stat']), r.path).toEqual(statsOf(r));
       for (const chart of charts) {
         const bars = elements(chart.body, 'rect', 'bar');
         expect(bars.map((b) => b['data-channel']), `${r.path} ${chart.attrs['data-stat']}`).toEqual(inOrder(r.channels).map((c) => c.name));
@@ -426,7 +436,7 @@ describe('html report: self-contained, safe, small', () => {
     expect(html).toContain('spikes &lt;b&gt;here&lt;/b&gt; &amp; &quot;there&quot; &#39;too&#39;');
     // the hostile channel still has its bars, trends and excerpt
     const bars = svgs(html, 'chart').flatMap((c) => elements(c.body, 'rect', 'bar')).filter((b) => b['data-channel'] === HOSTILE.channel);
-    expect(bars).toHaveLength(STATS.length);
+    expect(bars).toHaveLength(statsOf(result.recordings.find((r) => r.channels.some((c) => c.name === HOSTILE.channel))!).length);
     expect(svgs(html, 'trend').filter((t) => t.attrs['data-channel'] === HOSTILE.channel)).toHaveLength(4);
   });
 
@@ -454,7 +464,7 @@ describe('html report: self-contained, safe, small', () => {
     const html = htmlReport({ ...result, recordings: [{ ...r, durationS: 3600 }] }, long);
     const flagged = r.channels.filter((c) => c.verdict === 'fail' || c.verdict === 'warn');
     expect(flagged.length).toBeGreaterThanOrEqual(Object.keys(faults).length);
-    expect(svgs(html, 'chart')).toHaveLength(STATS.length);
+    expect(svgs(html, 'chart')).toHaveLength(statsOf(r).length);
     expect(Buffer.byteLength(html)).toBeLessThan(1_000_000);
   });
 

@@ -8,6 +8,7 @@ import { runScreen } from '../../src/cli/screen.js';
 import { readPartial, runMerge, runPartialScreen, runScreenShare, writePartial } from '../../src/cli/merge.js';
 import { UsageError } from '../../src/errors.js';
 import { loadRules } from '../../src/rules/load.js';
+import { sectionBounds, segmentPlan } from '../../src/stats/segments.js';
 import { summariseBlocks } from '../../src/stats/summarise.js';
 import { openRecording } from '../../src/readers/index.js';
 import { PARTIAL_FORMAT, PARTIAL_KIND, type PartialFile } from '../../src/stats/summary-file.js';
@@ -31,6 +32,8 @@ const now = () => new Date('2026-01-02T03:04:05.000Z');
 const fs = 1024;
 /** Not a multiple of the frame hop or of 4: sections cut frames and runs in the middle. */
 const N = 40 * fs + 37;
+/** Section bounds of 4 sections of the big recording, on the segment stride (stats/segments.ts). */
+const BOUNDS = sectionBounds(N, 4, segmentPlan(fs, N).strideSamples);
 
 let dir = '';
 let rules = '';
@@ -171,7 +174,10 @@ describe('vibgate merge of the sections of one 64-channel recording', () => {
       const partial = await readPartial(p);
       ranges.push([partial.parts[0].section!.startFrame, partial.parts[0].section!.endFrame]);
     }
-    expect(ranges).toEqual([0, 1, 2, 3].map((k) => [Math.floor((k * N) / 4), Math.floor(((k + 1) * N) / 4)]));
+    // the rule file's checks need sampled segments (duplicate-channel, mains-hum ...): the
+    // bounds fall on the segment stride, so no segment straddles two sections
+    expect(ranges).toEqual([0, 1, 2, 3].map((k) => [BOUNDS[k], BOUNDS[k + 1]]));
+    expect(BOUNDS.every((b, k) => k === 4 || b % segmentPlan(fs, N).strideSamples === 0)).toBe(true);
   });
 });
 
@@ -223,7 +229,9 @@ describe('vibgate merge of more sections than the record has frames', () => {
     const single = await singleRun([tiny], 'tiny');
     const parts = await sectionJobs([tiny], 5, 'tiny');
     const sizes = await Promise.all(parts.map(async (p) => (await readPartial(p)).parts[0].summary!.samples));
-    expect(sizes).toEqual([0, 1, 0, 1, 1]);
+    // on the segment stride (4096 at 1024 Hz) every inner bound of 3 frames is 0: the last
+    // section takes them all
+    expect(sizes).toEqual([0, 0, 0, 0, 3]);
     const whole = await merged(parts, 'tiny');
     expect(whole.junit).toBe(single.junit);
     expectClose(whole.json, single.json, 1e-12);
@@ -261,7 +269,7 @@ describe('vibgate merge refuses parts that do not make up the campaign', () => {
     await writeFile(parts[1], JSON.stringify(second));
     const r = await mergeError(parts);
     expect(r.code).toBe(2);
-    expect(r.stderr).toContain(`vibgate: Frames [${Math.floor(N / 2)}, ${N}) of "${big}" are in none of the partial files given (a gap at the end of the record): is a section's file missing?\n`);
+    expect(r.stderr).toContain(`vibgate: Frames [${sectionBounds(N, 2, segmentPlan(fs, N).strideSamples)[1]}, ${N}) of "${big}" are in none of the partial files given (a gap at the end of the record): is a section's file missing?\n`);
   });
 
   it('when the same job\'s file is given twice', async () => {
