@@ -50,6 +50,17 @@ function reportOptions(cmd: Command, json = 'write the JSON audit record (atomic
     .option('--rules-root <dir...>', "another directory the rule file's extends may read from");
 }
 
+/** The values of readOptions, as the commands' option objects name them. */
+function readValues(o: Record<string, unknown>) {
+  return {
+    sidecar: o.sidecar as string | undefined,
+    channelTable: o.channelTable as string | undefined,
+    sampleRate: o.sampleRate as number | undefined,
+    decimalComma: o.decimalComma === true,
+    jobs: o.jobs as number | undefined,
+  };
+}
+
 /** The values of readOptions and reportOptions, as the commands' option objects name them. */
 function readAndReportValues(o: Record<string, unknown>) {
   return {
@@ -59,11 +70,7 @@ function readAndReportValues(o: Record<string, unknown>) {
     github: o.github === true,
     quiet: o.quiet === true,
     rulesRoots: o.rulesRoot as string[] | undefined,
-    sidecar: o.sidecar as string | undefined,
-    channelTable: o.channelTable as string | undefined,
-    sampleRate: o.sampleRate as number | undefined,
-    decimalComma: o.decimalComma === true,
-    jobs: o.jobs as number | undefined,
+    ...readValues(o),
   };
 }
 
@@ -223,11 +230,7 @@ export async function main(argv: string[], io: CliIo): Promise<number> {
         update: o.update === true,
         force: o.force === true,
         rulesRoots: o.rulesRoot as string[] | undefined,
-        sidecar: o.sidecar as string | undefined,
-        channelTable: o.channelTable as string | undefined,
-        sampleRate: o.sampleRate as number | undefined,
-        decimalComma: o.decimalComma === true,
-        jobs: o.jobs as number | undefined,
+        ...readValues(o),
       },
       io,
     );

@@ -45,12 +45,12 @@
  * Everything is validated when the table is loaded, and every problem is reported as
  * `line:column column-name: what is wrong`.
  */
-import { readFile, stat } from 'node:fs/promises';
+import { readFile } from 'node:fs/promises';
 import { basename, dirname, relative, resolve, sep } from 'node:path';
 import { TextDecoder } from 'node:util';
 import { RecordingError } from '../errors.js';
 import { globMatch } from '../rules/select.js';
-import { asFileError } from './sidecar.js';
+import { asFileError, checkSmallFile } from './sidecar.js';
 import type { Sidecar, SidecarChannel } from './sidecar.js';
 
 /** A loaded, validated channel table. */
@@ -130,20 +130,7 @@ const CHANNEL_COLUMNS: readonly Column[] = [
  * every problem as `line:column column-name: what is wrong`.
  */
 export async function loadChannelTable(path: string): Promise<ChannelTable> {
-  let size: number;
-  try {
-    const info = await stat(path);
-    if (!info.isFile()) throw new RecordingError(path, 'is not a file');
-    size = info.size;
-  } catch (err) {
-    throw asFileError(path, err);
-  }
-  if (size > MAX_TABLE_BYTES) {
-    throw new RecordingError(
-      path,
-      `is ${(size / (1024 * 1024)).toFixed(1)} MiB; a channel table may be at most 16 MiB`,
-    );
-  }
+  await checkSmallFile(path, MAX_TABLE_BYTES, 'a channel table');
   let bytes: Buffer;
   try {
     bytes = await readFile(path);

@@ -109,6 +109,21 @@ export function sidecarPathFor(recordingPath: string): string {
  * every problem as `line:column key.path: what is wrong`.
  */
 export async function loadSidecar(path: string): Promise<Sidecar> {
+  await checkSmallFile(path, MAX_SIDECAR_BYTES, 'a sidecar file');
+  let text: string;
+  try {
+    text = await readFile(path, 'utf8');
+  } catch (err) {
+    throw asFileError(path, err);
+  }
+  return parseSidecar(path, text, await sidecarValidator());
+}
+
+/**
+ * Refuses what is not a file, or a file larger than `maxBytes` (a metadata file that size is
+ * not one, and parsing it would waste memory): `is 3.2 MiB; a sidecar file may be at most 1 MiB`.
+ */
+export async function checkSmallFile(path: string, maxBytes: number, what: string): Promise<void> {
   let size: number;
   try {
     const info = await stat(path);
@@ -117,19 +132,10 @@ export async function loadSidecar(path: string): Promise<Sidecar> {
   } catch (err) {
     throw asFileError(path, err);
   }
-  if (size > MAX_SIDECAR_BYTES) {
-    throw new RecordingError(
-      path,
-      `is ${(size / MAX_SIDECAR_BYTES).toFixed(1)} MiB; a sidecar file may be at most 1 MiB`,
-    );
+  if (size > maxBytes) {
+    const mib = (n: number) => n / (1024 * 1024);
+    throw new RecordingError(path, `is ${mib(size).toFixed(1)} MiB; ${what} may be at most ${mib(maxBytes)} MiB`);
   }
-  let text: string;
-  try {
-    text = await readFile(path, 'utf8');
-  } catch (err) {
-    throw asFileError(path, err);
-  }
-  return parseSidecar(path, text, await sidecarValidator());
 }
 
 /**
