@@ -148,9 +148,12 @@ export class AutocorrelationAccumulator {
 
 /** What the autocorrelation says about how much the frame statistics scatter. */
 export interface CorrelationShape {
-  /** ρ(k) for k = 0 … maxLag (ρ(0) = 1). */
+  /** ρ(k) for k = 0 … maxLag (ρ(0) = 1), corrected for the removal of each segment's mean. */
   rho: Float64Array;
-  /** Two-sided sums Σ_{|k|≤K} ρ(k)^p = 1 + 2 Σ_{k=1}^{K} ρ(k)^p, K the truncation lag. */
+  /**
+   * Two-sided sums 1 + 2 Σ_{k≥1} (w(k)ρ(k))^p with the lag window w: 1 up to the truncation
+   * lag K, then a cosine taper over ⌈K/2⌉ lags (`lagWindow`).
+   */
   sumRho2: number;
   sumRho3: number;
   sumRho4: number;
@@ -159,9 +162,10 @@ export interface CorrelationShape {
   /** K: the last lag at which ρ stands out of its estimation noise; the sums stop there. */
   truncationLag: number;
   /**
-   * True when ρ has decayed into its noise well before maxLag (K ≤ 3/4 · maxLag). When
-   * false, correlation reaches beyond the estimated lags, the sums are too small and bands
-   * built on them are too narrow: warn, do not judge.
+   * True when ρ has decayed into its noise and stays there for a run of max(32, K/2) lags
+   * before maxLag, and the last quarter of the lags looks like noise too. When false,
+   * correlation reaches beyond the estimated lags (or never decays: a sine), the sums are
+   * too small and bands built on them too narrow: warn, do not judge.
    */
   settled: boolean;
   /**
@@ -179,17 +183,29 @@ export interface CorrelationShape {
  * stationary Gaussian process (Lomnicki, Metrika 4, 1961 — from memory; see
  * gaussian-bands.ts).
  *
- * Normalisation: c(k) = lagSums[k] / (segments·(M − k)), the unbiased-per-lag estimate (each
- * lag divided by its own number of pairs), and ρ(k) = c(k)/c(0).
+ * Normalisation: ĉ(k) = lagSums[k] / (segments·(M − k)), the unbiased-per-lag estimate (each
+ * lag divided by its own number of pairs), and ρ̂(k) = ĉ(k)/ĉ(0).
+ *
+ * Mean removal: with each segment's own mean removed, E[ĉ(k)] ≈ γ(k) − Var(x̄) for lags short
+ * of M, Var(x̄) ≈ σ²·S1/M with S1 = Σ_k ρ(k) over all lags, so ρ̂ = (ρ − β)/(1 − β), β = S1/M
+ * (the usual first-order bias of mean-corrected autocovariances, e.g. Priestley, Spectral
+ * Analysis and Time Series, section on the sample autocovariance — from memory). S1 is
+ * solved from the measured Σ_{|k|≤K} ρ̂ and ρ is corrected when the process has power near
+ * 0 Hz (that sum at least 1); for vibration response (no DC) β ≈ 0 and it is left alone, for
+ * AR(1) with φ = 0.98 and M = 4096 it is 0.024.
  *
  * Truncation: summing ρ̂^p over lags where the true ρ is 0 adds only estimation noise (for
  * p = 2 a bias of about 2/(segments·M) per lag). The standard error of ρ̂(k) is taken from
  * Bartlett's large-lag formula, se(k)² = (1 + 2Σ_{j<k} ρ̂(j)²) / n_k with n_k =
  * segments·(M − k) pairs (Box, Jenkins & Reinsel, Time Series Analysis, section on the
- * standard error of autocorrelation estimates — from memory), and K is the last lag with
- * |ρ̂(k)| > c·se(k), where c = Φ⁻¹(1 − 0.005/maxLag) gives white noise a 1 % chance of any
- * lag standing out (Bonferroni over maxLag lags). Up to K the noise bias of Σρ̂² is removed
- * (Σ over k ≤ K of se(k)²); for p = 3 and 4 it is negligible next to the signal.
+ * standard error of autocorrelation estimates — from memory). A lag stands out when
+ * |ρ̂(k)| > c·se(k), c = Φ⁻¹(1 − 0.005/maxLag) (white noise has a 1 % chance that any lag does,
+ * Bonferroni over maxLag lags). K is the last lag that stands out before the first quiet run
+ * of max(32, K/2) lags: a narrow-band ρ oscillates through zero, and a run that long holds
+ * several of its periods, while a lone noise excursion far out does not extend K. The sums
+ * run through the lag window (1 to K, then a cosine taper over ⌈K/2⌉ lags), the same one
+ * gaussian-bands.ts uses for its spectrum, so that the two agree. The noise bias of Σρ̂² is
+ * removed (Σ w²se²); for p = 3 and 4 it is negligible.
  */
 export function correlationShape(s: AutocorrelationSums): CorrelationShape {
   const m = s.segmentSamples;
@@ -204,28 +220,64 @@ export function correlationShape(s: AutocorrelationSums): CorrelationShape {
 
   const c = normalQuantile(1 - 0.005 / maxLag);
   let truncationLag = 0;
+  let settled = false;
   let running = 1; // 1 + 2 Σ_{j<k} ρ̂(j)²
   for (let k = 1; k <= maxLag; k++) {
     const se = Math.sqrt(running / (s.segments * (m - k)));
     if (Math.abs(rho[k]) > c * se) truncationLag = k;
+    else if (k - truncationLag >= Math.max(32, truncationLag / 2)) {
+      settled = true;
+      break;
+    }
     running += 2 * rho[k] * rho[k];
   }
 
+  // first-order correction of the segment-mean bias: ρ = β + (1 − β)ρ̂ with β = S1/M, where
+  // Σ_{|k|≤K} ρ̂ = (S1 − (2K+1)β)/(1 − β) gives S1 = A/(1 + (A − 2K − 1)/M). Only for
+  // processes with power near 0 Hz (A ≥ 1, as much as white noise has): for response without
+  // DC, A is noise, and shifting every ρ by a β of noise moves Σρ³ by 3βΣρ², enough to halve
+  // the near-cancelling Σρ³ of a narrow-band mode (seen in a simulation here: 80 Hz, ζ 1 %).
+  let a = 1;
+  for (let k = 1; k <= truncationLag; k++) a += 2 * rho[k];
+  if (a >= 1) {
+    const beta = a / (1 + (a - 2 * truncationLag - 1) / m) / m;
+    if (beta < 0.5) for (let k = 1; k <= maxLag; k++) rho[k] = beta + (1 - beta) * rho[k];
+  }
+
+  // A quiet run is not enough when ρ does not decay at all (a sine: Bartlett's se grows with
+  // Σρ̂² until nothing stands out): the last quarter of the lags must also look like noise,
+  // mean ρ̂² at most 4× the se² that the correlation up to K implies there. Checked after the
+  // mean correction, which would otherwise leave −β in every far lag.
+  if (settled) {
+    let noise = 1;
+    for (let k = 1; k <= truncationLag; k++) noise += 2 * rho[k] * rho[k];
+    noise /= s.segments * (m - maxLag);
+    let tail = 0;
+    const from = Math.floor((3 * maxLag) / 4) + 1;
+    for (let k = from; k <= maxLag; k++) tail += rho[k] * rho[k];
+    tail /= maxLag - from + 1;
+    if (tail > 4 * noise) settled = false;
+  }
+
+  // the sums run to K and on through a cosine taper over the next ⌈K/2⌉ lags (the lag window
+  // gaussian-bands.ts uses for its spectrum)
+  const taper = lagTaper(truncationLag, maxLag);
   let sum2 = 0;
   let sum3 = 0;
   let sum4 = 0;
   let noise2 = 0;
   running = 1;
   let correlationSamples = 0;
-  for (let k = 1; k <= truncationLag; k++) {
-    const r = rho[k];
+  for (let k = 1; k <= truncationLag + taper; k++) {
+    const w = lagWindow(k, truncationLag, taper);
+    const r = w * rho[k];
     const r2 = r * r;
-    noise2 += running / (s.segments * (m - k));
-    running += 2 * r2;
+    noise2 += (w * w * running) / (s.segments * (m - k));
+    running += 2 * rho[k] * rho[k];
     sum2 += r2;
     sum3 += r2 * r;
     sum4 += r2 * r2;
-    if (Math.abs(r) >= 1 / Math.E) correlationSamples = k;
+    if (k <= truncationLag && Math.abs(r) >= 1 / Math.E) correlationSamples = k;
   }
   return {
     rho,
@@ -234,7 +286,19 @@ export function correlationShape(s: AutocorrelationSums): CorrelationShape {
     sumRho4: 1 + 2 * sum4,
     maxLag,
     truncationLag,
-    settled: truncationLag <= 0.75 * maxLag,
+    settled,
     correlationSamples: correlationSamples + 1,
   };
+}
+
+/** Length of the cosine taper after the truncation lag K: ⌈K/2⌉ lags (at least 4), within maxLag. */
+export function lagTaper(truncationLag: number, maxLag: number): number {
+  return Math.max(0, Math.min(maxLag - truncationLag, Math.max(4, Math.ceil(truncationLag / 2))));
+}
+
+/** Weight of lag k: 1 up to K, then a cosine taper to 0 over `taper` lags. */
+export function lagWindow(k: number, truncationLag: number, taper: number): number {
+  if (k <= truncationLag) return 1;
+  if (k > truncationLag + taper) return 0;
+  return 0.5 * (1 + Math.cos((Math.PI * (k - truncationLag)) / taper));
 }
