@@ -1,6 +1,7 @@
 import type { ChannelStats } from '../stats/channel-stats.js';
 import type { Check } from './types.js';
 import { positive, show } from './util.js';
+import { globMatch } from '../rules/glob.js';
 
 type Statistic = 'rms' | 'crest-factor' | 'kurtosis';
 
@@ -8,6 +9,7 @@ interface Options {
   of: Statistic[];
   'max-z': number;
   'min-peers': number;
+  groups?: string[];
 }
 
 /**
@@ -70,17 +72,30 @@ export const groupOutlier: Check<Options> = {
     },
     'max-z': positive('Largest accepted |modified z-score| = 0.6745·|x − median| / MAD over the group.'),
     'min-peers': { type: 'integer', minimum: 3, description: 'Fewest channels in a group (this one included) for the comparison.' },
+    groups: {
+      type: 'array',
+      items: { type: 'string', minLength: 1 },
+      minItems: 1,
+      description:
+        'Groups by channel name: globs (* any run of characters, ? one character); a channel belongs to the first that matches its name. Channels matching none are grouped by the sidecar group, else by unit.',
+    },
   },
   defaults: { of: ['rms', 'crest-factor', 'kurtosis'], 'max-z': 5, 'min-peers': 4 },
   defaultSeverity: 'warning',
   evaluate(ctx, o) {
     const limit = `|z| ≤ ${show(o['max-z'])} in a group of ≥ ${o['min-peers']}`;
-    const group = ctx.channel.group !== undefined ? `group "${ctx.channel.group}"` : ctx.channel.unit ? `the ${ctx.channel.unit} channels` : 'the channels without a unit';
+    const byName = o.groups && ctx.channels ? o.groups.find((g) => globMatch(g, ctx.channel.name)) : undefined;
+    const peers = byName !== undefined
+      ? ctx.channels!.filter((p) => o.groups!.find((g) => globMatch(g, p.channel.name)) === byName)
+      : ctx.peers;
+    const group = byName !== undefined
+      ? `the channels named "${byName}"`
+      : ctx.channel.group !== undefined ? `group "${ctx.channel.group}"` : ctx.channel.unit ? `the ${ctx.channel.unit} channels` : 'the channels without a unit';
     let worst: { stat: Statistic; z: number; x: number; median: number; n: number } | null = null;
     for (const stat of o.of) {
       const m = measures[stat];
       const f = (s: ChannelStats) => (m.log ? Math.log10(m.value(s)) : m.value(s));
-      const values = ctx.peers.map((p) => f(p.stats)).filter(Number.isFinite);
+      const values = peers.map((p) => f(p.stats)).filter(Number.isFinite);
       const x = f(ctx.stats);
       if (values.length < o['min-peers'] || !Number.isFinite(x)) continue;
       const z = modifiedZ(x, values, m.floor);

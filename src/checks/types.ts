@@ -47,6 +47,8 @@ export interface ChannelContext {
    * (the sidecar's `group`, else those with the same unit), this channel included.
    */
   peers: ReadonlyArray<{ channel: ChannelInfo; stats: ChannelStats }>;
+  /** Every channel of the recording, this one included, in file order (for groups a check forms itself). */
+  channels?: ReadonlyArray<{ channel: ChannelInfo; stats: ChannelStats }>;
   /** What the sampled segments showed of this channel, when a check asked for them. */
   segments?: ChannelSegments;
 }

@@ -61,6 +61,7 @@ export function judgeRecording(input: ReadRecording, rules: ResolvedRules): Reco
   const fs = input.sampleRate;
   const durationS = input.summary.samples / fs;
   const stats = input.summary.channels.map((s) => channelStats(s, { sampleRate: fs }));
+  const everyChannel = input.channels.map((channel, j) => ({ channel, stats: stats[j] }));
   const segmentViews = input.summary.segments ? channelSegments(input.summary.segments, input.channels) : null;
   const channels: ChannelVerdict[] = input.channels.map((channel, i) => {
     const context: ChannelContext = {
@@ -69,6 +70,7 @@ export function judgeRecording(input: ReadRecording, rules: ResolvedRules): Reco
       stats: stats[i],
       summary: input.summary.channels[i],
       peers: peersOf(input.channels, stats, i),
+      channels: everyChannel,
     };
     if (segmentViews) context.segments = segmentViews[i];
     const findings: Finding[] = [];

@@ -1,6 +1,6 @@
 import { describe, expect, it } from 'vitest';
 import { groupOutlier, modifiedZ } from '../../src/checks/group-outlier.js';
-import { run } from '../helpers/context.js';
+import { recordingContexts, run } from '../helpers/context.js';
 import { gaussian } from '../helpers/random.js';
 
 // five ordinary channels of one group: Gaussian, RMS 0.8 … 2 g
@@ -50,5 +50,21 @@ describe('group-outlier check', () => {
     const r = run(groupOutlier, gaussian(8192, 4), {}, { peerSignals: peers.slice(0, 2) });
     expect(r.ok).toBeNull();
     expect(r.message).toBe('fewer than 4 channels with finite statistics in the g channels: nothing to compare with');
+  });
+});
+
+describe('group-outlier check with groups by channel name', () => {
+  it('compares deck channels with deck channels and pier channels with pier channels', async () => {
+    const fs = 1024;
+    const deck = [1, 1.4, 0.8, 1.2, 30].map((s, i) => gaussian(8 * fs, 40 + i, s)); // the last: 30 × its group
+    const pier = [0.02, 0.03, 0.025, 0.018].map((s, i) => gaussian(8 * fs, 50 + i, s));
+    const names = [...deck.map((_, i) => `deck-${i + 1}`), ...pier.map((_, i) => `pier-${i + 1}`)];
+    const ctxs = await recordingContexts([...deck, ...pier], { sampleRate: fs, needs: {}, names });
+    const o = { ...groupOutlier.defaults, groups: ['deck-*', 'pier-*'] };
+    const r = ctxs.map((ctx) => groupOutlier.evaluate(ctx, o));
+    expect(r.map((x) => x.ok)).toEqual([true, true, true, true, false, true, true, true, true]);
+    expect(r[4].message).toMatch(/^RMS (29|30)\.\d+ g against the median 1\.\d+ g of the channels named "deck-\*" \(5 channels\)/);
+    // grouped by unit alone, the quiet pier channels share the deck's yardstick
+    expect(groupOutlier.evaluate(ctxs[5], groupOutlier.defaults).message).toContain('of the g channels (9 channels)');
   });
 });

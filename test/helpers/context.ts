@@ -75,6 +75,7 @@ export async function recordingContexts(
     stats: stats[i],
     summary: summary.channels[i],
     peers: channels.map((c, j) => ({ channel: c, stats: stats[j] })),
+    channels: channels.map((c, j) => ({ channel: c, stats: stats[j] })),
     ...(views ? { segments: views[i] } : {}),
   }));
 }
