@@ -325,10 +325,15 @@ function detectSeparator(text: string): string {
     ['\t', 0],
   ]);
   let quoted = false;
+  let seen = false;
   for (const ch of text) {
     if (ch === QUOTE) quoted = !quoted;
-    else if (!quoted && (ch === '\n' || ch === '\r')) break;
-    else if (!quoted && counts.has(ch)) counts.set(ch, counts.get(ch)! + 1);
+    // the header row is the first line that is not blank: blank lines above it say nothing
+    else if (!quoted && (ch === '\n' || ch === '\r')) {
+      if (seen) break;
+      continue;
+    } else if (!quoted && counts.has(ch)) counts.set(ch, counts.get(ch)! + 1);
+    if (ch !== ' ' && ch !== '\t' || counts.has(ch)) seen = true;
   }
   let best = ',';
   for (const [ch, n] of counts) if (n > counts.get(best)!) best = ch;
@@ -676,10 +681,12 @@ const DECIMAL_COMMA = /^[+-]?(?:\d+(?:,\d*)?|,\d+)(?:[eE][+-]?\d+)?$/;
 
 /** A finite decimal number, or what is wrong with the text. */
 function parseNumber(text: string, commaDecimals: boolean): number | string {
-  if (DECIMAL.test(text)) return Number(text);
-  if (DECIMAL_COMMA.test(text)) {
-    if (commaDecimals) return Number(text.replace(',', '.'));
-    return `"${text}" is not a number (write the decimal separator as a point, or separate the columns with ";")`;
-  }
-  return `"${text}" is not a number`;
+  let value: number;
+  if (DECIMAL.test(text)) value = Number(text);
+  else if (DECIMAL_COMMA.test(text)) {
+    if (!commaDecimals) return `"${text}" is not a number (write the decimal separator as a point, or separate the columns with ";")`;
+    value = Number(text.replace(',', '.'));
+  } else return `"${text}" is not a number`;
+  // 1e999 has decimal digits but no double: it would read as Infinity
+  return Number.isFinite(value) ? value : `"${text}" is not a finite number`;
 }

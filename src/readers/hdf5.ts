@@ -45,6 +45,8 @@ const DEFAULT_BLOCK_FRAMES = 65536;
  * WebAssembly heap into a fresh array, so a slice costs twice its size while it lives.
  */
 const SLICE_BYTES = 4 * 1024 * 1024;
+/** As many channels as a WAV header can declare (and the CSV and raw readers accept). */
+const MAX_HDF5_CHANNELS = 65535;
 /** Names listed when a path is not found, before "and N more". */
 const MAX_NAMES_SHOWN = 8;
 
@@ -181,6 +183,34 @@ export async function openHdf5(
   const h5wasm = await loadLibrary(path);
   const file = openFile(h5wasm, path);
   try {
+    return await describeRecording(h5wasm, file, path, sidecar, mapping, options, givenRate);
+  } catch (err) {
+    throw asRecordingError(path, err);
+  } finally {
+    file.close();
+  }
+}
+
+/**
+ * Everything h5wasm throws that is not already one of our errors (a corrupt B-tree or
+ * symbol table node surfaces as a plain Error from deep in the library) becomes a
+ * RecordingError naming the file.
+ */
+function asRecordingError(path: string, err: unknown): Error {
+  if (err instanceof RecordingError || err instanceof UsageError) return err;
+  return new RecordingError(path, `the HDF5 library cannot read it: ${hdf5Detail(err)}`);
+}
+
+async function describeRecording(
+  h5wasm: H5wasm,
+  file: H5File,
+  path: string,
+  sidecar: Sidecar,
+  mapping: Hdf5Mapping,
+  options: OpenOptions,
+  givenRate: number | undefined,
+): Promise<Recording> {
+  {
     const notes: string[] = [];
     const where = `hdf5.${'dataset' in mapping ? 'dataset' : 'group'} in the sidecar "${sidecar.path}"`;
     const { source, channels } =
@@ -235,8 +265,6 @@ export async function openHdf5(
     };
     recordSampleRateOrigin(recording, { says, toleranceHz: 0 });
     return recording;
-  } finally {
-    file.close();
   }
 }
 
@@ -422,6 +450,14 @@ function matrixSource(
     throw new RecordingError(
       path,
       `"${objectPath}" has shape ${shapeText(shape)}: with layout ${mapping.layout} its channel axis (axis ${1 - timeAxis}) is 0 long, so it holds no channels`,
+    );
+  }
+  if (channelCount > MAX_HDF5_CHANNELS) {
+    // as for WAV, CSV and raw: each channel costs its accumulators kilobytes, and a 3 KB file
+    // of unwritten chunks can declare 2^31 of them
+    throw new RecordingError(
+      path,
+      `"${objectPath}" has shape ${shapeText(shape)}: with layout ${mapping.layout} that is ${channelCount} channels; at most ${MAX_HDF5_CHANNELS} are read`,
     );
   }
 
@@ -805,6 +841,8 @@ async function* hdf5Blocks(source: Hdf5Source, options: BlockOptions = {}): Asyn
       frame += length;
       options.onProgress?.(frame * frameBytes, sampleCount * frameBytes);
     }
+  } catch (err) {
+    throw asRecordingError(path, err);
   } finally {
     file.close();
   }

@@ -842,7 +842,9 @@ class Indexer {
         `${label} is not closed: the file ends after its ${bytes} bytes of binary data without the "    -1" line`,
       );
     }
-    if (lines.cut || !isDelimiter(lines.buf, lines.start, lines.end)) {
+    // strictly `    -1` (I6) here: a 58b dataset a few bytes short of its declared count would
+    // otherwise take the blanks of this line as data and the rest, `-1`, as the delimiter
+    if (lines.cut || !isDelimiter(lines.buf, lines.start, lines.end) || !isRightJustifiedDelimiter(lines.buf, lines.start, lines.end)) {
       throw new RecordingError(
         this.path,
         `${label}: after the ${bytes} bytes of binary data the 58b header declares (from byte ${dataStart}), the file holds ` +
@@ -1288,8 +1290,11 @@ class EvenSpacing {
 /** Sample rate from a sampling interval known to ± halfStep, rounded to whole hertz within it. */
 function rateFromInterval(interval: number, halfStep: number): Pick<Source, 'rate' | 'rateToleranceHz' | 'snapped'> {
   const exact = 1 / interval;
-  // d(1/dt) = Δdt / dt²; the floor allows for the doubles' own rounding
-  const toleranceHz = halfStep / (interval * interval) + exact * 1e-12;
+  // the printed interval lies within ±halfStep of the true one, so the true rate lies within
+  // 1/(dt − h) − 1/dt = h / (dt (dt − h)) of 1/dt (exact, not the first-order h/dt²: a tie
+  // such as 1/51200 s = 1.953125E-05, printed 1.95313E-05, needs it); the floor allows for
+  // the doubles' own rounding
+  const toleranceHz = (halfStep < interval ? halfStep / (interval * (interval - halfStep)) : Infinity) + exact * 1e-12;
   const whole = Math.round(exact);
   const snapped = whole > 0 && whole !== exact && Math.abs(exact - whole) <= toleranceHz;
   return {
@@ -1321,6 +1326,11 @@ function isDelimiter(b: Buffer, start: number, end: number): boolean {
   if (end - start < 2 || end - start > 6 || b[end - 2] !== 45 || b[end - 1] !== 49) return false;
   for (let i = start; i < end - 2; i++) if (b[i] !== SPACE) return false;
   return true;
+}
+
+/** Exactly `    -1` in columns 1–6 (Fortran I6), then nothing but blanks. */
+function isRightJustifiedDelimiter(b: Buffer, start: number, end: number): boolean {
+  return trimEnd(b, start, end) - start === 6 && isDelimiter(b, start, end);
 }
 
 /** A piece of a line for a message, quoted, at most 40 characters. */
