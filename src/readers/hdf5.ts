@@ -24,7 +24,9 @@
  * however it ends. HDF5 stores byte order per dataset; h5wasm converts big-endian data to
  * little-endian as it reads.
  */
+import { existsSync } from 'node:fs';
 import { open, stat } from 'node:fs/promises';
+import { fileURLToPath } from 'node:url';
 import type { FileHandle } from 'node:fs/promises';
 import type { Dataset, Group, File as H5File, OutputData } from 'h5wasm/node';
 import { RecordingError, UsageError } from '../errors.js';
@@ -179,11 +181,96 @@ export async function openHdf5(
     throw new UsageError(`The sample rate must be a positive number of hertz, not ${givenRate}`);
   }
   await checkSignature(path);
+  const described = await describeWatched(path, sidecar, givenRate);
+  const source: Hdf5Source = { ...described.source, meter: options.meter };
+  const recording: Recording = {
+    path,
+    format: 'hdf5',
+    sampleRate: described.sampleRate,
+    sampleCount: source.sampleCount,
+    sampleFormat: source.type.sampleFormat,
+    channels: described.channels,
+    notes: described.notes,
+    blocks: (blockOptions?: BlockOptions) => hdf5Blocks(source, blockOptions),
+  };
+  recordSampleRateOrigin(recording, { says: described.says, toleranceHz: 0 });
+  return recording;
+}
 
+/** What opening an HDF5 recording finds out, as plain data (it crosses a thread boundary). */
+export interface Hdf5Description {
+  sampleRate: number;
+  /** Who says the sample rate, for a sidecar that contradicts it. */
+  says: string;
+  channels: ChannelInfo[];
+  notes: string[];
+  source: Omit<Hdf5Source, 'meter'>;
+}
+
+/** How long the HDF5 library may take to read a recording's metadata (VIBGATE_HDF5_DEADLINE_MS overrides it). */
+const DESCRIBE_DEADLINE_MS = 30_000;
+const deadlineMs = () => {
+  const given = Number(process.env.VIBGATE_HDF5_DEADLINE_MS);
+  return Number.isFinite(given) && given > 0 ? given : DESCRIBE_DEADLINE_MS;
+};
+
+/**
+ * Reads the metadata in a worker thread with a deadline: a corrupt file can make the HDF5
+ * library itself loop forever (a zeroed global heap under a string attribute, found by the
+ * fuzz tests), and only a thread of its own can be stopped. VIBGATE_HDF5_IN_PROCESS=1 reads
+ * in this thread instead (no deadline), as does a build without the worker file.
+ */
+async function describeWatched(path: string, sidecar: Sidecar, givenRate: number | undefined): Promise<Hdf5Description> {
+  const url = workerUrl();
+  if (url === null || process.env.VIBGATE_HDF5_IN_PROCESS === '1') return describeHdf5(path, sidecar, givenRate);
+  const { Worker } = await import('node:worker_threads');
+  const deadline = deadlineMs();
+  return new Promise((resolve, reject) => {
+    const worker = new Worker(url, { workerData: { path, sidecar, givenRate } });
+    let settled = false;
+    const timer = setTimeout(() => {
+      if (settled) return;
+      settled = true;
+      void worker.terminate();
+      reject(new RecordingError(path, `the HDF5 library did not finish reading its metadata within ${deadline / 1000} s: the file is probably corrupt`));
+    }, deadline);
+    worker.once('message', (m: { ok: true; described: Hdf5Description } | { ok: false; name: string; message: string; file?: string; offset?: number }) => {
+      if (settled) return;
+      settled = true;
+      clearTimeout(timer);
+      void worker.terminate();
+      if (m.ok) return resolve(m.described);
+      if (m.name === 'RecordingError' || m.name === 'UsageError') {
+        const e = m.name === 'UsageError' ? new UsageError(m.message) : new RecordingError(m.file ?? path, '', m.offset);
+        e.message = m.message;
+        return reject(e);
+      }
+      reject(new RecordingError(path, `the HDF5 library cannot read it: ${m.message}`));
+    });
+    worker.once('error', (err) => {
+      if (settled) return;
+      settled = true;
+      clearTimeout(timer);
+      reject(new RecordingError(path, `the HDF5 library stopped while reading it: ${err.message}`));
+    });
+  });
+}
+
+function workerUrl(): URL | null {
+  // from dist/ the worker sits beside this file; from the TypeScript sources (tests) use the build
+  const local = new URL('./hdf5-worker.js', import.meta.url);
+  if (existsSync(fileURLToPath(local))) return local;
+  const built = new URL('../../dist/readers/hdf5-worker.js', import.meta.url);
+  return existsSync(fileURLToPath(built)) ? built : null;
+}
+
+/** Opens the file and reads what `Hdf5Description` holds (in this thread). */
+export async function describeHdf5(path: string, sidecar: Sidecar, givenRate: number | undefined): Promise<Hdf5Description> {
+  const mapping = sidecar.hdf5!;
   const h5wasm = await loadLibrary(path);
   const file = openFile(h5wasm, path);
   try {
-    return await describeRecording(h5wasm, file, path, sidecar, mapping, options, givenRate);
+    return await describeRecording(h5wasm, file, path, sidecar, mapping, givenRate);
   } catch (err) {
     throw asRecordingError(path, err);
   } finally {
@@ -207,9 +294,8 @@ async function describeRecording(
   path: string,
   sidecar: Sidecar,
   mapping: Hdf5Mapping,
-  options: OpenOptions,
   givenRate: number | undefined,
-): Promise<Recording> {
+): Promise<Hdf5Description> {
   {
     const notes: string[] = [];
     const where = `hdf5.${'dataset' in mapping ? 'dataset' : 'group'} in the sidecar "${sidecar.path}"`;
@@ -217,8 +303,6 @@ async function describeRecording(
       'dataset' in mapping
         ? matrixSource(h5wasm, file, path, mapping, where)
         : membersSource(h5wasm, file, path, mapping, where, notes);
-    source.meter = options.meter;
-
     const holder = 'dataset' in mapping ? mapping.dataset : mapping.group;
     let sampleRate: number;
     let says: string;
@@ -253,18 +337,8 @@ async function describeRecording(
           : `"${path}" was opened with a sample rate of`;
     }
 
-    const recording: Recording = {
-      path,
-      format: 'hdf5',
-      sampleRate,
-      sampleCount: source.sampleCount,
-      sampleFormat: source.type.sampleFormat,
-      channels,
-      notes,
-      blocks: (blockOptions?: BlockOptions) => hdf5Blocks(source, blockOptions),
-    };
-    recordSampleRateOrigin(recording, { says, toleranceHz: 0 });
-    return recording;
+    const { meter: _meter, ...plain } = source;
+    return { sampleRate, says, channels, notes, source: plain };
   }
 }
 

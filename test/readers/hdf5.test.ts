@@ -18,6 +18,9 @@ import { buildWav, FORMAT_FLOAT, interleave } from '../helpers/wav-writer.js';
 import { gaussian } from '../helpers/random.js';
 import { statsOf } from '../helpers/summarise.js';
 
+// HDF5 metadata read in this thread: hundreds of files, each a worker start saved (the watchdog worker is tested in test/fuzz/hdf5.test.ts and test/readers/detect.test.ts)
+process.env.VIBGATE_HDF5_IN_PROCESS = '1';
+
 const dir = mkdtempSync(join(tmpdir(), 'vibgate-hdf5-'));
 afterAll(() => rmSync(dir, { recursive: true, force: true }));
 beforeAll(async () => {

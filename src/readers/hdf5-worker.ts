@@ -1,0 +1,20 @@
+/**
+ * Worker thread: reads an HDF5 recording's metadata (hdf5.ts `describeHdf5`) and posts it
+ * back, so that the parent can stop a library that never returns on a corrupt file.
+ */
+import { parentPort, workerData } from 'node:worker_threads';
+import { describeHdf5 } from './hdf5.js';
+import type { Sidecar } from './sidecar.js';
+
+const job = workerData as { path: string; sidecar: Sidecar; givenRate: number | undefined };
+describeHdf5(job.path, job.sidecar, job.givenRate).then(
+  (described) => parentPort!.postMessage({ ok: true, described }),
+  (err: unknown) =>
+    parentPort!.postMessage({
+      ok: false,
+      name: err instanceof Error ? err.name : 'Error',
+      message: err instanceof Error ? err.message : String(err),
+      file: (err as { file?: string }).file,
+      offset: (err as { offset?: number }).offset,
+    }),
+);
