@@ -89,7 +89,6 @@ export class DistinctLevelCounter {
   private segmentStep = Infinity;
   private samples = 0;
   private nonFinite = 0;
-  private scratch: Float64Array = new Float64Array(0);
 
   constructor(cap: number) {
     assertCap(cap);
@@ -100,37 +99,21 @@ export class DistinctLevelCounter {
   }
 
   addSegment(x: Float64Array): void {
-    if (this.saturated || this.segmentExceedsCap(x)) {
+    let finite = 0;
+    for (let i = 0; i < x.length; i++) if (x[i] - x[i] === 0) finite++;
+    this.samples += finite;
+    this.nonFinite += x.length - finite;
+    if (this.saturated) return;
+    const distinct = this.distinctOf(x);
+    if (distinct === null) {
       this.saturate();
-      for (let i = 0; i < x.length; i++) {
-        const v = x[i];
-        if (v - v === 0) this.samples += 1;
-        else this.nonFinite += 1;
-      }
       return;
     }
-    if (this.scratch.length < x.length) this.scratch = new Float64Array(x.length);
-    const u = this.scratch;
-    let n = 0;
-    for (let i = 0; i < x.length; i++) {
-      const v = x[i];
-      // v − v is 0 for finite v and NaN otherwise; v + 0 turns −0 into 0
-      if (v - v === 0) u[n++] = v + 0;
-    }
-    this.nonFinite += x.length - n;
-    this.samples += n;
-    if (n === 0) return;
-    const sorted = u.subarray(0, n).sort();
-    let k = 1;
+    const k = distinct.length;
+    if (k === 0) return;
+    const sorted = distinct.sort();
     let step = this.segmentStep;
-    for (let i = 1; i < n; i++) {
-      const v = sorted[i];
-      const prev = sorted[k - 1];
-      if (v !== prev) {
-        if (v - prev < step) step = v - prev;
-        sorted[k++] = v;
-      }
-    }
+    for (let i = 1; i < k; i++) if (sorted[i] - sorted[i - 1] < step) step = sorted[i] - sorted[i - 1];
     this.segmentStep = step;
     const room = Math.min(this.cap, this.count + k);
     if (this.spare.length < room) this.spare = new Float64Array(Math.min(this.cap, Math.max(room, 2 * this.spare.length)));
@@ -143,16 +126,21 @@ export class DistinctLevelCounter {
     this.count = got;
   }
 
-  /** True when the segment alone holds more than `cap` distinct finite values (stops early). */
-  private segmentExceedsCap(x: Float64Array): boolean {
+  /**
+   * The segment's distinct finite values (−0 as 0), unsorted, or null when there are more
+   * than `cap` of them: a hash set that stops as soon as it passes the cap, so float data
+   * cost about cap insertions and integer data only their few codes to sort.
+   */
+  private distinctOf(x: Float64Array): Float64Array | null {
     const seen = new Set<number>();
     for (let i = 0; i < x.length; i++) {
       const v = x[i];
+      // v − v is 0 for finite v and NaN otherwise; v + 0 turns −0 into 0
       if (v - v !== 0) continue;
       seen.add(v + 0);
-      if (seen.size > this.cap) return true;
+      if (seen.size > this.cap) return null;
     }
-    return false;
+    return Float64Array.from(seen);
   }
 
   private saturate(): void {
@@ -161,7 +149,6 @@ export class DistinctLevelCounter {
     this.count = 0;
     this.kept = new Float64Array(0);
     this.spare = this.kept;
-    this.scratch = this.kept;
   }
 
   /** A copy of the state so far. */

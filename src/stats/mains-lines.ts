@@ -257,6 +257,20 @@ function addGoertzelPowers(y: Float64Array, n: number, coef: Float64Array, out: 
   }
 }
 
+const buffers = new Map<number, { window: Float64Array; scratch: Float64Array }>();
+
+/** The Hann window of M samples and a scratch segment, made once per M (addSegment is not re-entrant). */
+function sharedBuffers(m: number): { window: Float64Array; scratch: Float64Array } {
+  let b = buffers.get(m);
+  if (!b) {
+    const window = new Float64Array(m);
+    for (let n = 0; n < m; n++) window[n] = 0.5 - 0.5 * Math.cos((2 * Math.PI * n) / m);
+    b = { window, scratch: new Float64Array(m) };
+    buffers.set(m, b);
+  }
+  return b;
+}
+
 /**
  * Mains-line sums of one channel, fed one sampled segment at a time (see the file comment).
  * Segments must all have `segmentSamples` samples; their order does not matter.
@@ -282,9 +296,11 @@ export class LineAccumulator {
     this.options = resolveOptions(o);
     this.layout = lineLayout(this.options);
     const m = this.options.segmentSamples;
-    this.window = new Float64Array(m);
-    for (let n = 0; n < m; n++) this.window[n] = 0.5 - 0.5 * Math.cos((2 * Math.PI * n) / m);
-    this.windowed = new Float64Array(m);
+    // one Hann window and one scratch segment per segment length, shared by every channel's
+    // accumulator of this thread (each is M doubles: 64 channels × 2 × 0.5 MiB otherwise)
+    const shared = sharedBuffers(m);
+    this.window = shared.window;
+    this.windowed = shared.scratch;
     const hz = this.layout.flatMap((l) => [...l.gridHz, ...l.floorHz]);
     const fs = this.options.sampleRate;
     const d = decimationFor(fs, m, hz);

@@ -35,6 +35,13 @@ export const CROSS_SAMPLES = 8192;
  */
 export const LEVELS_CAP = 4096;
 
+/**
+ * Samples of each segment whose levels are counted: a hash-set insertion a sample makes it
+ * costly for integer data with a few thousand codes, and 16 384 samples of every segment
+ * (65 536 or more a channel) meet every code of a signal's central ±3 σ many times over.
+ */
+export const LEVELS_SAMPLES = 16384;
+
 export interface SegmentSummary {
   plan: SegmentPlan;
   /** Segments (of every channel at once) that were complete and finite. */
@@ -80,14 +87,17 @@ export class SegmentAnalyses {
     }));
     this.cross = needs.cross && o.channels > 1 ? new CrossCorrelationAccumulator(o.channels) : null;
     this.levels = needs.levels ? each(() => new DistinctLevelCounter(LEVELS_CAP)) : null;
+    // whole segments only for the analyses that need them (lines, autocorrelation)
+    const whole = needs.autocorrelation === true || this.lines.length > 0;
+    const take = whole ? m : Math.min(m, Math.max(needs.cross ? CROSS_SAMPLES : 0, needs.levels ? LEVELS_SAMPLES : 0));
     this.collector = new SegmentCollector(plan, o.channels, o.start, (segments) => {
       for (let c = 0; c < segments.length; c++) {
         this.autocorrelation?.[c].addSegment(segments[c]);
         for (const l of this.lines) l.channels[c].addSegment(segments[c]);
-        this.levels?.[c].addSegment(segments[c]);
+        this.levels?.[c].addSegment(segments[c].length > LEVELS_SAMPLES ? segments[c].subarray(0, LEVELS_SAMPLES) : segments[c]);
       }
       if (this.cross) this.cross.addSegments(segments[0].length > CROSS_SAMPLES ? segments.map((s) => s.subarray(0, CROSS_SAMPLES)) : segments);
-    });
+    }, take);
   }
 
   push(channels: ArrayLike<Float64Array>, length: number): void {

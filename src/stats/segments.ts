@@ -71,13 +71,18 @@ export class SegmentCollector {
   /** Complete, finite segments handed on. */
   used = 0;
 
+  /**
+   * `take`: only the first this many samples of each segment are collected and handed on
+   * (analyses that need no more than that save the memory of whole segments).
+   */
   constructor(
     plan: SegmentPlan,
     channels: number,
     start: number,
     private readonly onSegment: (segments: Float64Array[]) => void,
+    take = plan.segmentSamples,
   ) {
-    this.m = plan.segmentSamples;
+    this.m = Math.min(take, plan.segmentSamples);
     this.stride = plan.strideSamples;
     this.buffers = Array.from({ length: channels }, () => new Float64Array(this.m));
     this.position = start;
