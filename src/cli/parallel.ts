@@ -5,6 +5,7 @@ import { fileURLToPath } from 'node:url';
 import { openRecording } from '../readers/index.js';
 import type { OpenOptions, Recording } from '../readers/types.js';
 import { RecordingError } from '../errors.js';
+import { errorOf, type WorkerFailure } from '../worker-errors.js';
 import { mergeRecordingSummaries, summariseBlocks, type FrameOptions, type RecordingSummary } from '../stats/summarise.js';
 import { needsNothing, type SegmentNeeds } from '../stats/segment-analyses.js';
 import { sectionBounds, segmentPlan } from '../stats/segments.js';
@@ -51,14 +52,10 @@ function runWorker(job: SectionJob): Promise<RecordingSummary> {
   return new Promise((resolve, reject) => {
     const worker = new Worker(workerUrl(), { workerData: job });
     let settled = false;
-    worker.once('message', (m: { ok: boolean; summary?: RecordingSummary; name?: string; message?: string; file?: string; offset?: number }) => {
+    worker.once('message', (m: { ok: true; summary: RecordingSummary } | WorkerFailure) => {
       settled = true;
-      if (m.ok) resolve(m.summary!);
-      else if (m.name === 'RecordingError') {
-        const e = new RecordingError(m.file ?? job.path, '', m.offset);
-        e.message = m.message!;
-        reject(e);
-      } else reject(new Error(m.message));
+      if (m.ok) resolve(m.summary);
+      else reject(errorOf(m, job.path, (message) => new Error(message)));
       void worker.terminate();
     });
     worker.once('error', (err) => {

@@ -4,16 +4,10 @@
  */
 import { parentPort, workerData } from 'node:worker_threads';
 import { summariseSection, type SectionJob } from './parallel.js';
+import { failureOf } from '../worker-errors.js';
 
 const job = workerData as SectionJob;
 summariseSection(job).then(
   (summary) => parentPort!.postMessage({ ok: true, summary }),
-  (err: unknown) =>
-    parentPort!.postMessage({
-      ok: false,
-      name: err instanceof Error ? err.name : 'Error',
-      message: err instanceof Error ? err.message : String(err),
-      file: (err as { file?: string }).file,
-      offset: (err as { offset?: number }).offset,
-    }),
+  (err: unknown) => parentPort!.postMessage(failureOf(err)),
 );

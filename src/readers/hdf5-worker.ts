@@ -5,16 +5,10 @@
 import { parentPort, workerData } from 'node:worker_threads';
 import { describeHdf5 } from './hdf5.js';
 import type { Sidecar } from './sidecar.js';
+import { failureOf } from '../worker-errors.js';
 
 const job = workerData as { path: string; sidecar: Sidecar; givenRate: number | undefined };
 describeHdf5(job.path, job.sidecar, job.givenRate).then(
   (described) => parentPort!.postMessage({ ok: true, described }),
-  (err: unknown) =>
-    parentPort!.postMessage({
-      ok: false,
-      name: err instanceof Error ? err.name : 'Error',
-      message: err instanceof Error ? err.message : String(err),
-      file: (err as { file?: string }).file,
-      offset: (err as { offset?: number }).offset,
-    }),
+  (err: unknown) => parentPort!.postMessage(failureOf(err)),
 );

@@ -27,6 +27,7 @@
 import { existsSync } from 'node:fs';
 import { open, stat } from 'node:fs/promises';
 import { fileURLToPath } from 'node:url';
+import { errorOf, type WorkerFailure } from '../worker-errors.js';
 import type { FileHandle } from 'node:fs/promises';
 import type { Dataset, Group, File as H5File, OutputData } from 'h5wasm/node';
 import { RecordingError, UsageError } from '../errors.js';
@@ -234,18 +235,13 @@ async function describeWatched(path: string, sidecar: Sidecar, givenRate: number
       void worker.terminate();
       reject(new RecordingError(path, `the HDF5 library did not finish reading its metadata within ${deadline / 1000} s: the file is probably corrupt`));
     }, deadline);
-    worker.once('message', (m: { ok: true; described: Hdf5Description } | { ok: false; name: string; message: string; file?: string; offset?: number }) => {
+    worker.once('message', (m: { ok: true; described: Hdf5Description } | WorkerFailure) => {
       if (settled) return;
       settled = true;
       clearTimeout(timer);
       void worker.terminate();
       if (m.ok) return resolve(m.described);
-      if (m.name === 'RecordingError' || m.name === 'UsageError') {
-        const e = m.name === 'UsageError' ? new UsageError(m.message) : new RecordingError(m.file ?? path, '', m.offset);
-        e.message = m.message;
-        return reject(e);
-      }
-      reject(new RecordingError(path, `the HDF5 library cannot read it: ${m.message}`));
+      reject(errorOf(m, path, (message) => new RecordingError(path, `the HDF5 library cannot read it: ${message}`)));
     });
     worker.once('error', (err) => {
       if (settled) return;
