@@ -1,4 +1,5 @@
-import { openRecording } from '../readers/index.js';
+import { channelTableOnce, openRecording } from '../readers/index.js';
+import { unmatchedPatterns } from '../readers/channel-table.js';
 import type { Recording } from '../readers/types.js';
 import { readWindow } from '../readers/window.js';
 import type { RecordingSummary } from '../stats/summarise.js';
@@ -102,6 +103,27 @@ async function reportDetail(recording: Recording, summary: RecordingSummary, ver
 }
 
 /** `vibgate screen`: the gate. Exit 0 pass (warnings allowed), 1 failed or unreadable, 2 usage or rules. */
+/**
+ * Reads the channel table before any recording, as the rule file is: a broken table is a
+ * setting error (exit 2, nothing screened), not a fault of every recording. Patterns that
+ * match none of the recordings are named (a typo, or a recording missing from the run).
+ */
+async function checkChannelTable(file: string, paths: string[], io: CliIo): Promise<boolean> {
+  try {
+    const table = await channelTableOnce(file);
+    for (const { pattern, line } of unmatchedPatterns(table, paths)) {
+      io.stderr.write(`vibgate: note: "${file}" line ${line}: the pattern "${pattern}" matches none of the recordings given\n`);
+    }
+    return true;
+  } catch (err) {
+    if (err instanceof RecordingError) {
+      io.stderr.write(`vibgate: ${err.message}\nvibgate: nothing was screened\n`);
+      return false;
+    }
+    throw err;
+  }
+}
+
 export async function runScreen(paths: string[], options: ScreenOptions, io: CliIo): Promise<number> {
   if ((options.sign !== undefined || options.ledger !== undefined) && options.json === undefined) {
     io.stderr.write(`vibgate: ${options.sign !== undefined ? '--sign' : '--ledger'} needs --json FILE: it applies to the JSON record\n`);
@@ -119,6 +141,7 @@ export async function runScreen(paths: string[], options: ScreenOptions, io: Cli
   }
   const rules = await loadRulesReporting(options.rules, options, io);
   if (rules === null) return ExitCode.usage;
+  if (options.channelTable !== undefined && !(await checkChannelTable(options.channelTable, paths, io))) return ExitCode.usage;
   const recordings: RecordingVerdict[] = [];
   const detail: ReportDetail = new Map();
   for (const path of paths) {

@@ -69,13 +69,18 @@ export async function openRecording(path: string, options: OpenOptions = {}): Pr
 }
 
 const tables = new Map<string, Promise<ChannelTable>>();
-/** A channel table is read once for all the recordings of a run. */
-function channelTableOnce(path: string): Promise<ChannelTable> {
-  let table = tables.get(path);
+/**
+ * A channel table is read once for all the recordings of a run (and again when the file
+ * changes: the key holds its size and modification time).
+ */
+export async function channelTableOnce(path: string): Promise<ChannelTable> {
+  const info = await stat(path).catch(() => null);
+  const key = `${path}\0${info?.size ?? ''}\0${info?.mtimeMs ?? ''}`;
+  let table = tables.get(key);
   if (table === undefined) {
     table = loadChannelTable(path);
-    tables.set(path, table);
-    table.catch(() => tables.delete(path));
+    tables.set(key, table);
+    table.catch(() => tables.delete(key));
   }
   return table;
 }

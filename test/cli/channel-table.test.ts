@@ -61,3 +61,21 @@ describe('--channel-table', () => {
     expect(r.stderr).toMatch(new RegExp(`^vibgate: Cannot read "${bad.replace(/[.*+?^${}()|[\]\\]/g, '\\$&')}": `));
   });
 });
+
+describe('screen --channel-table', () => {
+  it('reads the table before any recording: a broken one is a setting error, exit 2', async () => {
+    const bad = join(dir, 'bad-screen.csv');
+    await writeFile(bad, 'recording,index,name\ndeck-run*.wav,x,acc\n');
+    const r = await runCli(['screen', '--rules', 'bundled:random-vibration', '--channel-table', bad, runs[1]]);
+    expect(r.code).toBe(2);
+    expect(r.stderr).toMatch(/^vibgate: Cannot read ".*bad-screen\.csv": 2:15 index: /);
+    expect(r.stderr).toContain('vibgate: nothing was screened\n');
+  });
+
+  it('names the patterns that match none of the recordings given', async () => {
+    const table = join(dir, 'two-days.csv');
+    await writeFile(table, 'recording,index,name\ndeck-run*.wav,0,deck-a\nbridge-day9/*.wav,0,pier-a\n');
+    const r = await runCli(['screen', '--rules', 'bundled:base', '--channel-table', table, runs[1], '-q']);
+    expect(r.stderr).toBe(`vibgate: note: "${table}" line 3: the pattern "bridge-day9/*.wav" matches none of the recordings given\n`);
+  });
+});
