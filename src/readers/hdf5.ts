@@ -31,7 +31,7 @@ import { errorOf, type WorkerFailure } from '../worker-errors.js';
 import type { FileHandle } from 'node:fs/promises';
 import type { Dataset, Group, File as H5File, OutputData } from 'h5wasm/node';
 import { RecordingError, UsageError } from '../errors.js';
-import { asFileError, formatHz, recordSampleRateOrigin, sidecarPathFor } from './sidecar.js';
+import { asFileError, formatHz, recordSampleRateOrigin, sidecarOrGivenRate, sidecarPathFor } from './sidecar.js';
 import type { Hdf5Mapping, Sidecar } from './sidecar.js';
 import type { BlockOptions, ChannelInfo, OpenOptions, ReadMeter, Recording, SampleBlock, SampleFormat } from './types.js';
 
@@ -313,24 +313,12 @@ async function describeRecording(
         );
       }
     } else {
-      if (sidecar.sampleRate !== undefined && givenRate !== undefined && sidecar.sampleRate !== givenRate) {
-        throw new RecordingError(
-          path,
-          `its sidecar "${sidecar.path}" says ${formatHz(sidecar.sampleRate)} Hz but the sample rate given is ${formatHz(givenRate)} Hz`,
-        );
-      }
-      const rate = sidecar.sampleRate ?? givenRate;
-      if (rate === undefined) {
-        throw new RecordingError(
-          path,
-          `no sample rate (give hdf5.sample-rate-attribute or sample-rate in the sidecar "${sidecar.path}", or --sample-rate)`,
-        );
-      }
-      sampleRate = rate;
-      says =
-        sidecar.sampleRate !== undefined
-          ? `the sidecar "${sidecar.path}" of "${path}" says`
-          : `"${path}" was opened with a sample rate of`;
+      ({ rate: sampleRate, says } = sidecarOrGivenRate(
+        path,
+        sidecar,
+        givenRate,
+        `give hdf5.sample-rate-attribute or sample-rate in the sidecar "${sidecar.path}", or --sample-rate`,
+      ));
     }
 
     const { meter: _meter, ...plain } = source;

@@ -11,7 +11,7 @@
 import { open, stat } from 'node:fs/promises';
 import type { FileHandle } from 'node:fs/promises';
 import { RecordingError, UsageError } from '../errors.js';
-import { asFileError, formatHz, recordSampleRateOrigin, sidecarPathFor } from './sidecar.js';
+import { asFileError, recordSampleRateOrigin, sidecarOrGivenRate, sidecarPathFor } from './sidecar.js';
 import type { RawEncoding, Sidecar } from './sidecar.js';
 import type { BlockOptions, ChannelInfo, OpenOptions, Recording, SampleBlock, SampleFormat } from './types.js';
 
@@ -61,19 +61,7 @@ export async function openRaw(
   if (givenRate !== undefined && !(Number.isFinite(givenRate) && givenRate > 0)) {
     throw new UsageError(`The sample rate must be a positive number of hertz, not ${givenRate}`);
   }
-  if (sidecar.sampleRate !== undefined && givenRate !== undefined && sidecar.sampleRate !== givenRate) {
-    throw new RecordingError(
-      path,
-      `its sidecar "${sidecar.path}" says ${formatHz(sidecar.sampleRate)} Hz but the sample rate given is ${formatHz(givenRate)} Hz`,
-    );
-  }
-  const sampleRate = sidecar.sampleRate ?? givenRate;
-  if (sampleRate === undefined) {
-    throw new RecordingError(
-      path,
-      `no sample rate (give --sample-rate or sample-rate in the sidecar "${sidecar.path}")`,
-    );
-  }
+  const { rate: sampleRate, says } = sidecarOrGivenRate(path, sidecar, givenRate, `give --sample-rate or sample-rate in the sidecar "${sidecar.path}"`);
 
   if (layout.channels > MAX_RAW_CHANNELS) {
     throw new RecordingError(
@@ -141,13 +129,7 @@ export async function openRaw(
     recording.validBits = encoding.bits;
     recording.quantisationStep = step;
   }
-  recordSampleRateOrigin(recording, {
-    says:
-      sidecar.sampleRate !== undefined
-        ? `the sidecar "${sidecar.path}" of "${path}" says`
-        : `"${path}" was opened with a sample rate of`,
-    toleranceHz: 0,
-  });
+  recordSampleRateOrigin(recording, { says, toleranceHz: 0 });
   return recording;
 }
 

@@ -120,6 +120,30 @@ export async function loadSidecar(path: string): Promise<Sidecar> {
 }
 
 /**
+ * The sample rate of a format that has none of its own (raw, HDF5 without a rate attribute):
+ * the sidecar's `sample-rate`, else the rate the recording was opened with; both given must
+ * agree. `missing` says, for the error, where a rate could be given. Returns the rate and
+ * who says it (for `recordSampleRateOrigin`).
+ */
+export function sidecarOrGivenRate(
+  path: string,
+  sidecar: Sidecar,
+  givenRate: number | undefined,
+  missing: string,
+): { rate: number; says: string } {
+  if (sidecar.sampleRate !== undefined && givenRate !== undefined && sidecar.sampleRate !== givenRate) {
+    throw new RecordingError(
+      path,
+      `its sidecar "${sidecar.path}" says ${formatHz(sidecar.sampleRate)} Hz but the sample rate given is ${formatHz(givenRate)} Hz`,
+    );
+  }
+  const rate = sidecar.sampleRate ?? givenRate;
+  if (rate === undefined) throw new RecordingError(path, `no sample rate (${missing})`);
+  const says = sidecar.sampleRate !== undefined ? `the sidecar "${sidecar.path}" of "${path}" says` : `"${path}" was opened with a sample rate of`;
+  return { rate, says };
+}
+
+/**
  * Refuses what is not a file, or a file larger than `maxBytes` (a metadata file that size is
  * not one, and parsing it would waste memory): `is 3.2 MiB; a sidecar file may be at most 1 MiB`.
  */
